@@ -1,0 +1,49 @@
+//! Assessment: the screening figures, the criticality class and the warnings of one case.
+
+pub mod class;
+pub mod decomposition;
+pub mod figures;
+pub mod search;
+pub mod warnings;
+
+use crate::case::Case;
+use crate::model::plant::Plant;
+use crate::model::scenario::{ScenarioError, Trajectory};
+use crate::warning::Warning;
+pub use figures::{Figures, NormalFigures};
+use std::time::{Duration, Instant};
+
+/// Wall-clock budget of one assessment; beyond it the computation ends with an error.
+pub const TIME_BUDGET: Duration = Duration::from_secs(60);
+
+#[derive(Debug, thiserror::Error)]
+pub enum AssessError {
+    #[error(transparent)]
+    Scenario(#[from] ScenarioError),
+    #[error("the vessel geometry could not be built: {0}")]
+    Geometry(String),
+}
+
+/// A case with everything computed from it.
+pub struct Assessment {
+    pub case: Case,
+    pub plant: Plant,
+    pub normal_run: Trajectory,
+    pub figures: Figures,
+    pub warnings: Vec<Warning>,
+}
+
+pub fn assess(case: Case) -> Result<Assessment, AssessError> {
+    let plant = Plant::from_case(&case).map_err(|e| AssessError::Geometry(e.to_string()))?;
+    let deadline = Instant::now() + TIME_BUDGET;
+    let computation = figures::compute(&plant, Some(deadline))?;
+    let mut warnings = case.input_warnings.clone();
+    warnings.extend(warnings::figure_warnings(&plant, &computation.figures));
+    Ok(Assessment {
+        case,
+        plant,
+        normal_run: computation.normal_run,
+        figures: computation.figures,
+        warnings,
+    })
+}

@@ -1,0 +1,109 @@
+//! Warnings drawn from the figures: where the jacket, the MTT or the decomposition leave no
+//! margin, and where a figure needs care in reading.
+
+use super::figures::Figures;
+use crate::case::Dosing;
+use crate::model::plant::Plant;
+use crate::warning::Warning;
+
+/// A temperature rise in normal operation above this many kelvin is reported, K.
+const NORMAL_EXCURSION_K: f64 = 10.0;
+/// Conversion below this at the end of normal operation is reported.
+const LOW_CONVERSION: f64 = 0.95;
+
+pub fn figure_warnings(plant: &Plant, f: &Figures) -> Vec<Warning> {
+    let mut out = Vec::new();
+    cooling(plant, f, &mut out);
+    limits(plant, f, &mut out);
+    normal_operation(plant, f, &mut out);
+    out
+}
+
+fn c(kelvin: f64) -> f64 {
+    kelvin - 273.15
+}
+
+fn cooling(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
+    let n = &f.normal;
+    if n.peak_reaction_power > n.cooling_capacity_at_tp {
+        out.push(Warning::new(
+            "cooling-insufficient",
+            format!(
+                "at the peak reaction power ({:.1} kW at {:.2} h) the jacket can remove only {:.1} kW with the contents at Tp (U A (Tp - T_coolant)): it cannot hold Tp at the planned dosing rate",
+                n.peak_reaction_power / 1e3, n.peak_time / 3600.0, n.cooling_capacity_at_tp / 1e3
+            ),
+        ));
+    }
+    let _ = plant;
+}
+
+fn limits(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
+    if f.mtsr >= f.mtt {
+        out.push(Warning::new("mtsr-above-mtt", format!("MTSR {:.1} degC reaches the MTT {:.1} degC: after a cooling failure the mass boils or the relief opens", c(f.mtsr), c(f.mtt))));
+    }
+    if f.worst.max_temperature > f.mtsr + 0.5 {
+        let why = match plant.dosing_after_failure {
+            Dosing::Continues => "because the feed goes on after the failure",
+            Dosing::Stops => "",
+        };
+        out.push(Warning::new(
+            "simulated-mtsr-above-mtsr",
+            format!("the simulated MTSR {:.1} degC (failure at {:.2} h) exceeds the MTSR {:.1} degC {why}; the class uses the MTSR, a dosing stop interlock on cooling failure is what makes it hold", c(f.worst.max_temperature), f.worst.failure_time / 3600.0, c(f.mtsr)),
+        ));
+        if let (Some(a), Some(b)) = (f.class, f.class_simulated) {
+            if b > a {
+                out.push(Warning::new("class-with-simulated-mtsr", format!("with the simulated MTSR in place of MTSR the criticality class would be {b}, not {a}")));
+            }
+        }
+    }
+    match (f.td24, f.tmr_ad_at_mtsr) {
+        (Some(_), Some(tmr)) if tmr < 24.0 * 3600.0 => out.push(Warning::new(
+            "tmrad-under-24h",
+            format!("TMRad at MTSR is {:.1} h, under 24 h: a runaway of the decomposition can follow a cooling failure", tmr / 3600.0),
+        )),
+        (None, Some(_)) => out.push(Warning::new("no-td24", "no TD24 could be found for the decomposition data (activation energy too small or data outside range)")),
+        (_, None) => out.push(Warning::new(
+            "no-decomposition-data",
+            "no decomposition data (DSC/ARC): TMRad, TD24 and the criticality class cannot be given; this is not a finding of safety, obtain the data",
+        )),
+        _ => {}
+    }
+}
+
+fn normal_operation(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
+    let n = &f.normal;
+    if n.max_temperature > plant.process_temperature + NORMAL_EXCURSION_K {
+        out.push(Warning::new(
+            "normal-excursion",
+            format!(
+                "in normal operation the contents reach {:.1} degC at {:.2} h, {:.1} K above Tp",
+                c(n.max_temperature),
+                n.max_temperature_time / 3600.0,
+                n.max_temperature - plant.process_temperature
+            ),
+        ));
+    }
+    if n.max_temperature >= f.mtt {
+        out.push(Warning::new(
+            "normal-above-mtt",
+            "normal operation itself reaches the MTT".to_string(),
+        ));
+    }
+    if let Some(x) = f.final_conversion {
+        if x < LOW_CONVERSION {
+            out.push(Warning::new(
+                "low-final-conversion",
+                format!("conversion at the end of normal operation is only {:.1} %: unreacted material remains, and the accumulation at the end counts toward MTSR", 100.0 * x),
+            ));
+        }
+    }
+    if n.final_decomposition_conversion > 0.01 {
+        out.push(Warning::new(
+            "decomposition-in-normal-operation",
+            format!(
+                "the decomposition reaches {:.1} % conversion during normal operation",
+                100.0 * n.final_decomposition_conversion
+            ),
+        ));
+    }
+}

@@ -1,0 +1,116 @@
+//! The case: one recipe in one vessel, loaded from YAML, with units checked and carried as
+//! `uom` quantities at this boundary.
+
+pub mod equation;
+pub mod error;
+pub mod load;
+pub mod positions;
+pub mod schema;
+pub mod units;
+pub mod validate;
+
+pub use error::{CaseError, InputError};
+pub use load::load_case_file;
+
+pub use crate::model::vessel::Bottom;
+use crate::warning::Warning;
+use equation::Equation;
+use std::collections::BTreeMap;
+use uom::si::f64::{
+    AmountOfSubstance, AvailableEnergy, HeatCapacity, HeatTransfer, Length, Mass, MassDensity,
+    MolarEnergy, MolarMass, SpecificHeatCapacity, SpecificPower, ThermodynamicTemperature, Time,
+    Volume,
+};
+
+/// A checked case, ready for the model.
+#[derive(Debug, Clone)]
+pub struct Case {
+    pub title: String,
+    pub species: BTreeMap<String, SpeciesData>,
+    pub charge: Charge,
+    pub feed: Option<Feed>,
+    pub reactions: Vec<Reaction>,
+    pub vessel: Vessel,
+    pub coolant_temperature: ThermodynamicTemperature,
+    pub process_temperature: ThermodynamicTemperature,
+    pub process_duration: Time,
+    pub failure: Failure,
+    pub decomposition: Option<Decomposition>,
+    pub mtt: ThermodynamicTemperature,
+    /// Questionable but possible inputs, found while checking the case.
+    pub input_warnings: Vec<Warning>,
+}
+
+#[derive(Debug, Clone, Default)]
+pub struct SpeciesData {
+    pub molar_mass: Option<MolarMass>,
+    pub gas: bool,
+}
+
+#[derive(Debug, Clone)]
+pub struct Charge {
+    pub mass: Mass,
+    pub specific_heat: SpecificHeatCapacity,
+    pub density: MassDensity,
+    pub amounts: BTreeMap<String, AmountOfSubstance>,
+}
+
+#[derive(Debug, Clone)]
+pub struct Feed {
+    pub mass: Mass,
+    pub specific_heat: SpecificHeatCapacity,
+    pub density: MassDensity,
+    pub temperature: ThermodynamicTemperature,
+    pub amounts: BTreeMap<String, AmountOfSubstance>,
+    pub start: Time,
+    pub duration: Time,
+}
+
+/// A rate constant in SI (m^3/mol)^(order - 1) / s, with the overall order it belongs to.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RateConstant {
+    pub si_value: f64,
+    pub overall_order: f64,
+}
+
+#[derive(Debug, Clone)]
+pub struct Reaction {
+    pub equation: Equation,
+    pub enthalpy: MolarEnergy,
+    pub rate_constant: RateConstant,
+    pub reference_temperature: ThermodynamicTemperature,
+    pub activation_energy: MolarEnergy,
+    /// Order in each species' concentration (defaults: the reactants' coefficients).
+    pub orders: BTreeMap<String, f64>,
+}
+
+#[derive(Debug, Clone)]
+pub struct Vessel {
+    pub diameter: Length,
+    pub bottom: Bottom,
+    pub nominal_volume: Volume,
+    pub jacket_height: Length,
+    pub heat_transfer_coefficient: HeatTransfer,
+    pub heat_capacity: HeatCapacity,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Dosing {
+    Continues,
+    Stops,
+}
+
+#[derive(Debug, Clone)]
+pub struct Failure {
+    pub dosing: Dosing,
+    pub horizon: Time,
+}
+
+#[derive(Debug, Clone)]
+pub struct Decomposition {
+    pub energy: AvailableEnergy,
+    pub heat_release_rate: SpecificPower,
+    pub reference_temperature: ThermodynamicTemperature,
+    pub activation_energy: MolarEnergy,
+    pub order: f64,
+}

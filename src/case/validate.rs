@@ -1,0 +1,906 @@
+//! Checking a whole raw case before any computation: units against the dimension each key
+//! needs, physically impossible values and relations (errors), questionable ones (warnings).
+
+use super::equation::{Equation, parse_equation};
+use super::error::InputError;
+use super::positions::PositionMap;
+use super::schema::{RawCase, RawFeed, RawReaction, RawStream, RawVessel, Scalar, ScalarMap};
+use super::units::{Dimension, parse_quantity};
+use super::{
+    Bottom, Case, Charge, Decomposition, Dosing, Failure, Feed, RateConstant, Reaction,
+    SpeciesData, Vessel,
+};
+use crate::model::network::{Network, releasable_heat_is_bounded};
+use crate::model::vessel::VesselGeometry;
+use crate::warning::Warning;
+use std::collections::BTreeMap;
+use uom::si::f64::*;
+use uom::si::{
+    amount_of_substance::mole, available_energy::joule_per_kilogram,
+    heat_capacity::joule_per_kelvin, heat_transfer::watt_per_square_meter_kelvin, length::meter,
+    mass::kilogram, mass_density::kilogram_per_cubic_meter, molar_energy::joule_per_mole,
+    molar_mass::kilogram_per_mole, specific_heat_capacity::joule_per_kilogram_kelvin,
+    specific_power::watt_per_kilogram, thermodynamic_temperature::kelvin, time::second,
+    volume::cubic_meter,
+};
+
+/// What a key holds: its dimension, an example unit and the values that make sense.
+#[derive(Debug, Clone, Copy)]
+struct Kind {
+    dimension: Dimension,
+    example: &'static str,
+    sign: Sign,
+    absolute_temperature: bool,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Sign {
+    Any,
+    NonNegative,
+    Positive,
+}
+
+const fn dim(length: f64, mass: f64, time: f64, temperature: f64, amount: f64) -> Dimension {
+    Dimension {
+        length,
+        mass,
+        time,
+        temperature,
+        amount,
+    }
+}
+
+const fn kind(dimension: Dimension, example: &'static str, sign: Sign) -> Kind {
+    Kind {
+        dimension,
+        example,
+        sign,
+        absolute_temperature: false,
+    }
+}
+
+const MASS: Kind = kind(dim(0., 1., 0., 0., 0.), "2400 kg", Sign::Positive);
+const SPECIFIC_HEAT: Kind = kind(dim(2., 0., -2., -1., 0.), "1.75 kJ/(kg*K)", Sign::Positive);
+const DENSITY: Kind = kind(dim(-3., 1., 0., 0., 0.), "1050 kg/m^3", Sign::Positive);
+const AMOUNT: Kind = kind(dim(0., 0., 0., 0., 1.), "9.0 kmol", Sign::NonNegative);
+const DURATION: Kind = kind(dim(0., 0., 1., 0., 0.), "5 h", Sign::Positive);
+const START_TIME: Kind = kind(dim(0., 0., 1., 0., 0.), "0 h", Sign::NonNegative);
+const LENGTH: Kind = kind(dim(1., 0., 0., 0., 0.), "1.6 m", Sign::Positive);
+const VOLUME: Kind = kind(dim(3., 0., 0., 0., 0.), "4 m^3", Sign::Positive);
+const HEAT_TRANSFER: Kind = kind(
+    dim(0., 1., -3., -1., 0.),
+    "280 W/(m^2*K)",
+    Sign::NonNegative,
+);
+const HEAT_CAPACITY: Kind = kind(dim(2., 1., -2., -1., 0.), "0 kJ/K", Sign::NonNegative);
+const ENTHALPY: Kind = kind(dim(2., 1., -2., 0., -1.), "-95 kJ/mol", Sign::Any);
+const ACTIVATION: Kind = kind(dim(2., 1., -2., 0., -1.), "75 kJ/mol", Sign::NonNegative);
+const SPECIFIC_ENERGY: Kind = kind(dim(2., 0., -2., 0., 0.), "650 kJ/kg", Sign::Positive);
+const SPECIFIC_POWER: Kind = kind(dim(2., 0., -3., 0., 0.), "2.0 W/kg", Sign::Positive);
+const MOLAR_MASS: Kind = kind(dim(0., 1., 0., 0., -1.), "80.91 g/mol", Sign::Positive);
+const ORDER: Kind = kind(Dimension::NONE, "1", Sign::NonNegative);
+const TEMPERATURE: Kind = Kind {
+    dimension: dim(0., 0., 0., 1., 0.),
+    example: "75 degC (or K, degF)",
+    sign: Sign::Positive,
+    absolute_temperature: true,
+};
+
+/// The activation energies outside this range are questionable (kJ/mol).
+const PLAUSIBLE_ACTIVATION_KJ_MOL: (f64, f64) = (20.0, 400.0);
+
+/// Checks `raw` whole and returns the typed case, or every error found.
+pub fn validate(
+    raw: RawCase,
+    positions: &PositionMap,
+    file: &str,
+) -> Result<Case, Vec<InputError>> {
+    let mut checker = Checker {
+        file,
+        positions,
+        errors: Vec::new(),
+        warnings: Vec::new(),
+    };
+    let case = checker.case(raw);
+    match case {
+        Some(case) if checker.errors.is_empty() => Ok(case),
+        _ => Err(checker.errors),
+    }
+}
+
+struct Checker<'a> {
+    file: &'a str,
+    positions: &'a PositionMap,
+    errors: Vec<InputError>,
+    warnings: Vec<Warning>,
+}
+
+impl Checker<'_> {
+    fn error(&mut self, path: &str, message: impl Into<String>, accepted: impl Into<String>) {
+        self.errors.push(InputError {
+            file: self.file.to_string(),
+            position: self.positions.find(path),
+            path: path.to_string(),
+            message: message.into(),
+            accepted: accepted.into(),
+        });
+    }
+
+    fn warn(&mut self, code: &str, message: impl Into<String>) {
+        self.warnings.push(Warning::new(code, message));
+    }
+
+    fn required<'v, T: ?Sized>(
+        &mut self,
+        path: &str,
+        value: Option<&'v T>,
+        example: &str,
+    ) -> Option<&'v T> {
+        if value.is_none() {
+            self.error(path, "missing key", format!("{path}: {example}"));
+        }
+        value
+    }
+
+    /// A required quantity, in SI.
+    fn quantity(&mut self, path: &str, value: Option<&Scalar>, kind: Kind) -> Option<f64> {
+        let scalar = self.required(path, value, kind.example)?;
+        self.parse(path, scalar, kind)
+    }
+
+    /// An optional quantity with a default in SI.
+    fn quantity_or(
+        &mut self,
+        path: &str,
+        value: Option<&Scalar>,
+        kind: Kind,
+        default: f64,
+    ) -> Option<f64> {
+        match value {
+            Some(scalar) => self.parse(path, scalar, kind),
+            None => Some(default),
+        }
+    }
+
+    fn parse(&mut self, path: &str, scalar: &Scalar, kind: Kind) -> Option<f64> {
+        let parsed = match parse_quantity(&scalar.0) {
+            Ok(q) => q,
+            Err(e) => {
+                self.error(
+                    path,
+                    format!("\"{}\": {e}", scalar.0),
+                    format!("a value like \"{}\"", kind.example),
+                );
+                return None;
+            }
+        };
+        if !parsed.dimension.approx_eq(&kind.dimension) {
+            let found = if parsed.unit_text.is_empty() {
+                "a bare number (no unit)".to_string()
+            } else {
+                format!(
+                    "the unit \"{}\" ({})",
+                    parsed.unit_text,
+                    parsed.dimension.describe()
+                )
+            };
+            self.error(
+                path,
+                format!(
+                    "\"{}\": {found} does not fit this key ({})",
+                    scalar.0,
+                    kind.dimension.describe()
+                ),
+                format!("a value like \"{}\"", kind.example),
+            );
+            return None;
+        }
+        if parsed.affine && !kind.absolute_temperature {
+            self.error(
+                path,
+                format!("\"{}\": degC and degF name absolute temperatures; a temperature difference takes K", scalar.0),
+                "a difference in K, e.g. \"10 K\"",
+            );
+            return None;
+        }
+        self.check_sign(path, scalar, parsed.value_si, kind)
+    }
+
+    fn check_sign(&mut self, path: &str, scalar: &Scalar, value: f64, kind: Kind) -> Option<f64> {
+        let (ok, needed) = match kind.sign {
+            Sign::Any => (true, ""),
+            Sign::NonNegative => (value >= 0.0, "zero or more"),
+            Sign::Positive => (value > 0.0, "more than zero"),
+        };
+        if ok {
+            return Some(value);
+        }
+        let what = if kind.absolute_temperature {
+            "a temperature above absolute zero".to_string()
+        } else {
+            format!("a value {needed}, e.g. \"{}\"", kind.example)
+        };
+        self.error(
+            path,
+            format!("\"{}\" is not physically possible here", scalar.0),
+            what,
+        );
+        None
+    }
+
+    fn word<'w>(
+        &mut self,
+        path: &str,
+        value: Option<&Scalar>,
+        words: &[&'w str],
+        default: Option<&'w str>,
+    ) -> Option<&'w str> {
+        let text = match (value, default) {
+            (Some(scalar), _) => scalar.0.trim().to_string(),
+            (None, Some(word)) => return Some(word),
+            (None, None) => {
+                self.error(path, "missing key", format!("one of {}", words.join(", ")));
+                return None;
+            }
+        };
+        let found = words.iter().find(|w| **w == text).copied();
+        if found.is_none() {
+            self.error(
+                path,
+                format!("\"{text}\" is not a choice here"),
+                format!("one of {}", words.join(", ")),
+            );
+        }
+        found
+    }
+
+    fn case(&mut self, raw: RawCase) -> Option<Case> {
+        self.format(raw.format.as_ref());
+        let title = self
+            .required(
+                "title",
+                raw.title.as_ref(),
+                "Side-chain bromination, 4 m3 vessel",
+            )
+            .map(|s| s.0.clone());
+        let species = self.species(raw.species.as_ref());
+        let charge = self.charge(raw.charge.as_ref());
+        let feed = raw.feed.as_ref().map(|f| self.feed(f));
+        let reactions = self.reactions(raw.reactions.as_deref(), &species);
+        let vessel = self.vessel(raw.vessel.as_ref());
+        let coolant = raw.coolant.as_ref();
+        let coolant_temperature = self.quantity(
+            "coolant.temperature",
+            coolant.and_then(|c| c.temperature.as_ref()),
+            TEMPERATURE,
+        );
+        if coolant.is_none() {
+            // The missing-key error above names coolant.temperature already.
+        }
+        let process = raw.process.as_ref();
+        let process_temperature = self.quantity(
+            "process.temperature",
+            process.and_then(|p| p.temperature.as_ref()),
+            TEMPERATURE,
+        );
+        let process_duration = self.quantity(
+            "process.duration",
+            process.and_then(|p| p.duration.as_ref()),
+            DURATION,
+        );
+        let failure = self.failure(raw.failure.as_ref());
+        let decomposition = raw
+            .decomposition
+            .as_ref()
+            .and_then(|d| self.decomposition(d));
+        let mtt = self.quantity(
+            "limits.mtt",
+            raw.limits.as_ref().and_then(|l| l.mtt.as_ref()),
+            TEMPERATURE,
+        );
+
+        let feed = match feed {
+            Some(None) => None?,
+            Some(Some(f)) => Some(f),
+            None => None,
+        };
+        let case = Case {
+            title: title?,
+            species: species?,
+            charge: charge?,
+            feed,
+            reactions: reactions?,
+            vessel: vessel?,
+            coolant_temperature: ThermodynamicTemperature::new::<kelvin>(coolant_temperature?),
+            process_temperature: ThermodynamicTemperature::new::<kelvin>(process_temperature?),
+            process_duration: Time::new::<second>(process_duration?),
+            failure: failure?,
+            decomposition,
+            mtt: ThermodynamicTemperature::new::<kelvin>(mtt?),
+            input_warnings: Vec::new(),
+        };
+        self.relations(&case);
+        let mut case = case;
+        case.input_warnings = std::mem::take(&mut self.warnings);
+        Some(case)
+    }
+
+    fn format(&mut self, value: Option<&Scalar>) {
+        if let Some(scalar) = self.required("format", value, "1") {
+            if scalar.0.trim() != "1" {
+                self.error(
+                    "format",
+                    format!("format \"{}\" is not known to this version", scalar.0),
+                    "format: 1",
+                );
+            }
+        }
+    }
+
+    fn species(
+        &mut self,
+        raw: Option<&BTreeMap<String, super::schema::RawSpecies>>,
+    ) -> Option<BTreeMap<String, SpeciesData>> {
+        let mut out = BTreeMap::new();
+        let mut ok = true;
+        for (name, props) in raw.into_iter().flatten() {
+            let path = format!("species.{name}");
+            let molar_mass = match &props.molar_mass {
+                Some(s) => match self.parse(&format!("{path}.molar_mass"), s, MOLAR_MASS) {
+                    Some(v) => Some(MolarMass::new::<kilogram_per_mole>(v)),
+                    None => {
+                        ok = false;
+                        None
+                    }
+                },
+                None => None,
+            };
+            out.insert(
+                name.clone(),
+                SpeciesData {
+                    molar_mass,
+                    gas: props.gas.unwrap_or(false),
+                },
+            );
+        }
+        ok.then_some(out)
+    }
+
+    fn amounts(
+        &mut self,
+        path: &str,
+        raw: Option<&ScalarMap>,
+    ) -> Option<BTreeMap<String, AmountOfSubstance>> {
+        let raw = self.required(path, raw, "{ A: 9.0 kmol }")?;
+        let mut out = BTreeMap::new();
+        let mut ok = true;
+        for (name, scalar) in raw {
+            match self.parse(&format!("{path}.{name}"), scalar, AMOUNT) {
+                Some(v) => {
+                    out.insert(name.clone(), AmountOfSubstance::new::<mole>(v));
+                }
+                None => ok = false,
+            }
+        }
+        ok.then_some(out)
+    }
+
+    fn charge(&mut self, raw: Option<&RawStream>) -> Option<Charge> {
+        let raw = self.required("charge", raw, "{ mass, specific_heat, density, amounts }");
+        let mass = self.quantity("charge.mass", raw.and_then(|r| r.mass.as_ref()), MASS);
+        let cp = self.quantity(
+            "charge.specific_heat",
+            raw.and_then(|r| r.specific_heat.as_ref()),
+            SPECIFIC_HEAT,
+        );
+        let density = self.quantity(
+            "charge.density",
+            raw.and_then(|r| r.density.as_ref()),
+            DENSITY,
+        );
+        let amounts = self.amounts("charge.amounts", raw.and_then(|r| r.amounts.as_ref()));
+        Some(Charge {
+            mass: Mass::new::<kilogram>(mass?),
+            specific_heat: SpecificHeatCapacity::new::<joule_per_kilogram_kelvin>(cp?),
+            density: MassDensity::new::<kilogram_per_cubic_meter>(density?),
+            amounts: amounts?,
+        })
+    }
+
+    fn feed(&mut self, raw: &RawFeed) -> Option<Feed> {
+        let mass = self.quantity("feed.mass", raw.mass.as_ref(), MASS);
+        let cp = self.quantity(
+            "feed.specific_heat",
+            raw.specific_heat.as_ref(),
+            SPECIFIC_HEAT,
+        );
+        let density = self.quantity("feed.density", raw.density.as_ref(), DENSITY);
+        let temperature = self.quantity("feed.temperature", raw.temperature.as_ref(), TEMPERATURE);
+        let amounts = self.amounts("feed.amounts", raw.amounts.as_ref());
+        let start = self.quantity_or("feed.start", raw.start.as_ref(), START_TIME, 0.0);
+        let duration = self.quantity("feed.duration", raw.duration.as_ref(), DURATION);
+        Some(Feed {
+            mass: Mass::new::<kilogram>(mass?),
+            specific_heat: SpecificHeatCapacity::new::<joule_per_kilogram_kelvin>(cp?),
+            density: MassDensity::new::<kilogram_per_cubic_meter>(density?),
+            temperature: ThermodynamicTemperature::new::<kelvin>(temperature?),
+            amounts: amounts?,
+            start: Time::new::<second>(start?),
+            duration: Time::new::<second>(duration?),
+        })
+    }
+
+    fn reactions(
+        &mut self,
+        raw: Option<&[RawReaction]>,
+        species: &Option<BTreeMap<String, SpeciesData>>,
+    ) -> Option<Vec<Reaction>> {
+        let raw = self.required("reactions", raw, "a list with one entry per reaction")?;
+        if raw.is_empty() {
+            self.error(
+                "reactions",
+                "the list of reactions is empty",
+                "at least one reaction",
+            );
+            return None;
+        }
+        let gas_species = |name: &str| {
+            species
+                .as_ref()
+                .and_then(|s| s.get(name))
+                .is_some_and(|s| s.gas)
+        };
+        let mut out = Vec::new();
+        for (index, reaction) in raw.iter().enumerate() {
+            out.push(self.reaction(index, reaction, &gas_species));
+        }
+        out.into_iter().collect()
+    }
+
+    fn reaction(
+        &mut self,
+        index: usize,
+        raw: &RawReaction,
+        is_gas: &dyn Fn(&str) -> bool,
+    ) -> Option<Reaction> {
+        let base = format!("reactions[{index}]");
+        let equation = self.equation(&base, raw.equation.as_ref(), is_gas);
+        let enthalpy = self.quantity(&format!("{base}.enthalpy"), raw.enthalpy.as_ref(), ENTHALPY);
+        let reference_temperature = self.quantity(
+            &format!("{base}.reference_temperature"),
+            raw.reference_temperature.as_ref(),
+            TEMPERATURE,
+        );
+        let activation = self.quantity(
+            &format!("{base}.activation_energy"),
+            raw.activation_energy.as_ref(),
+            ACTIVATION,
+        );
+        if let Some(ea) = activation {
+            self.check_activation(&format!("{base}.activation_energy"), ea);
+        }
+        let equation = equation?;
+        let orders = self.orders(&base, &equation, raw.orders.as_ref())?;
+        let overall_order: f64 = orders.values().sum();
+        let rate_constant = self.rate_constant(
+            &format!("{base}.rate_constant"),
+            raw.rate_constant.as_ref(),
+            overall_order,
+        );
+        Some(Reaction {
+            equation,
+            enthalpy: MolarEnergy::new::<joule_per_mole>(enthalpy?),
+            rate_constant: RateConstant {
+                si_value: rate_constant?,
+                overall_order,
+            },
+            reference_temperature: ThermodynamicTemperature::new::<kelvin>(reference_temperature?),
+            activation_energy: MolarEnergy::new::<joule_per_mole>(activation?),
+            orders,
+        })
+    }
+
+    fn equation(
+        &mut self,
+        base: &str,
+        raw: Option<&Scalar>,
+        is_gas: &dyn Fn(&str) -> bool,
+    ) -> Option<Equation> {
+        let path = format!("{base}.equation");
+        let scalar = self.required(&path, raw, "A + B -> P + HBr")?;
+        let equation = match parse_equation(&scalar.0) {
+            Ok(eq) => eq,
+            Err(message) => {
+                self.error(&path, message, "an equation like \"2 A + B -> P + HBr\"");
+                return None;
+            }
+        };
+        for term in &equation.reactants {
+            if is_gas(&term.species) {
+                self.error(
+                    &path,
+                    format!("\"{}\" is a reactant but is marked gas: true, and a gas species leaves the liquid as soon as it forms", term.species),
+                    format!("species.{}.gas: false for a reactant that stays dissolved", term.species),
+                );
+            }
+        }
+        Some(equation)
+    }
+
+    fn orders(
+        &mut self,
+        base: &str,
+        equation: &Equation,
+        raw: Option<&ScalarMap>,
+    ) -> Option<BTreeMap<String, f64>> {
+        let Some(raw) = raw else {
+            return Some(
+                equation
+                    .reactants
+                    .iter()
+                    .map(|t| (t.species.clone(), t.coefficient))
+                    .collect(),
+            );
+        };
+        let mut out = BTreeMap::new();
+        let mut ok = true;
+        for (name, scalar) in raw {
+            let path = format!("{base}.orders.{name}");
+            if !equation.species().contains(&name.as_str()) {
+                self.error(
+                    &path,
+                    format!(
+                        "\"{name}\" does not appear in the equation \"{}\"",
+                        equation.text
+                    ),
+                    format!(
+                        "orders of the species in the equation: {}",
+                        equation.species().join(", ")
+                    ),
+                );
+                ok = false;
+                continue;
+            }
+            match self.parse(&path, scalar, ORDER) {
+                Some(order) => {
+                    out.insert(name.clone(), order);
+                }
+                None => ok = false,
+            }
+        }
+        ok.then_some(out)
+    }
+
+    fn rate_constant(&mut self, path: &str, raw: Option<&Scalar>, order: f64) -> Option<f64> {
+        let needed = rate_constant_dimension(order);
+        let example = rate_constant_example(order);
+        let scalar = self.required(path, raw, &example)?;
+        let parsed = match parse_quantity(&scalar.0) {
+            Ok(q) => q,
+            Err(e) => {
+                self.error(
+                    path,
+                    format!("\"{}\": {e}", scalar.0),
+                    format!("a value like \"3.0e-4 {example}\""),
+                );
+                return None;
+            }
+        };
+        if !parsed.dimension.approx_eq(&needed) {
+            let implied = implied_order(&parsed.dimension)
+                .map(|n| format!(", a unit for overall order {n}"))
+                .unwrap_or_default();
+            self.error(
+                path,
+                format!("\"{}\": the unit \"{}\"{implied} does not match the overall order {order} of the reaction (the sum of its orders)", scalar.0, parsed.unit_text),
+                format!("a unit like \"{example}\" for order {order}"),
+            );
+            return None;
+        }
+        if parsed.value_si <= 0.0 {
+            self.error(
+                path,
+                format!("\"{}\": a rate constant must be more than zero", scalar.0),
+                format!("a value like \"3.0e-4 {example}\""),
+            );
+            return None;
+        }
+        Some(parsed.value_si)
+    }
+
+    fn check_activation(&mut self, path: &str, ea_si: f64) {
+        let kj = ea_si / 1000.0;
+        let (low, high) = PLAUSIBLE_ACTIVATION_KJ_MOL;
+        if kj < low || kj > high {
+            self.warn(
+                "activation-energy-range",
+                format!("{path} = {kj:.1} kJ/mol lies outside the usual {low:.0} to {high:.0} kJ/mol; check the value and its unit"),
+            );
+        }
+    }
+
+    fn vessel(&mut self, raw: Option<&RawVessel>) -> Option<Vessel> {
+        let raw = self.required(
+            "vessel",
+            raw,
+            "{ diameter, bottom, nominal_volume, jacket_height, heat_transfer_coefficient }",
+        );
+        let diameter = self.quantity(
+            "vessel.diameter",
+            raw.and_then(|r| r.diameter.as_ref()),
+            LENGTH,
+        );
+        let bottom = self.word(
+            "vessel.bottom",
+            raw.and_then(|r| r.bottom.as_ref()),
+            &["flat", "hemispherical", "elliptical", "torispherical"],
+            None,
+        );
+        let nominal = self.quantity(
+            "vessel.nominal_volume",
+            raw.and_then(|r| r.nominal_volume.as_ref()),
+            VOLUME,
+        );
+        let jacket = self.quantity(
+            "vessel.jacket_height",
+            raw.and_then(|r| r.jacket_height.as_ref()),
+            LENGTH,
+        );
+        let u = self.quantity(
+            "vessel.heat_transfer_coefficient",
+            raw.and_then(|r| r.heat_transfer_coefficient.as_ref()),
+            HEAT_TRANSFER,
+        );
+        let c = self.quantity_or(
+            "vessel.heat_capacity",
+            raw.and_then(|r| r.heat_capacity.as_ref()),
+            HEAT_CAPACITY,
+            0.0,
+        );
+        Some(Vessel {
+            diameter: Length::new::<meter>(diameter?),
+            bottom: bottom_of(bottom?),
+            nominal_volume: Volume::new::<cubic_meter>(nominal?),
+            jacket_height: Length::new::<meter>(jacket?),
+            heat_transfer_coefficient: HeatTransfer::new::<watt_per_square_meter_kelvin>(u?),
+            heat_capacity: HeatCapacity::new::<joule_per_kelvin>(c?),
+        })
+    }
+
+    fn failure(&mut self, raw: Option<&super::schema::RawFailure>) -> Option<Failure> {
+        let dosing = self.word(
+            "failure.dosing",
+            raw.and_then(|r| r.dosing.as_ref()),
+            &["continues", "stops"],
+            Some("continues"),
+        );
+        let horizon = self.quantity_or(
+            "failure.horizon",
+            raw.and_then(|r| r.horizon.as_ref()),
+            DURATION,
+            24.0 * 3600.0,
+        );
+        Some(Failure {
+            dosing: if dosing? == "stops" {
+                Dosing::Stops
+            } else {
+                Dosing::Continues
+            },
+            horizon: Time::new::<second>(horizon?),
+        })
+    }
+
+    fn decomposition(&mut self, raw: &super::schema::RawDecomposition) -> Option<Decomposition> {
+        let energy = self.quantity("decomposition.energy", raw.energy.as_ref(), SPECIFIC_ENERGY);
+        let rate = self.quantity(
+            "decomposition.heat_release_rate",
+            raw.heat_release_rate.as_ref(),
+            SPECIFIC_POWER,
+        );
+        let reference = self.quantity(
+            "decomposition.reference_temperature",
+            raw.reference_temperature.as_ref(),
+            TEMPERATURE,
+        );
+        let ea = self.quantity(
+            "decomposition.activation_energy",
+            raw.activation_energy.as_ref(),
+            ACTIVATION,
+        );
+        if let Some(ea) = ea {
+            self.check_activation("decomposition.activation_energy", ea);
+        }
+        let order = self.quantity_or("decomposition.order", raw.order.as_ref(), ORDER, 0.0);
+        Some(Decomposition {
+            energy: AvailableEnergy::new::<joule_per_kilogram>(energy?),
+            heat_release_rate: SpecificPower::new::<watt_per_kilogram>(rate?),
+            reference_temperature: ThermodynamicTemperature::new::<kelvin>(reference?),
+            activation_energy: MolarEnergy::new::<joule_per_mole>(ea?),
+            order: order?,
+        })
+    }
+}
+
+fn bottom_of(word: &str) -> Bottom {
+    match word {
+        "flat" => Bottom::Flat,
+        "hemispherical" => Bottom::Hemispherical,
+        "elliptical" => Bottom::Elliptical,
+        _ => Bottom::Torispherical,
+    }
+}
+
+/// Dimension of a rate constant of overall order n: (m^3/mol)^(n-1) / s.
+fn rate_constant_dimension(order: f64) -> Dimension {
+    dim(3.0 * (order - 1.0), 0.0, -1.0, 0.0, -(order - 1.0))
+}
+
+/// The overall order a rate-constant unit belongs to, if it is one.
+fn implied_order(found: &Dimension) -> Option<f64> {
+    let order = 1.0 - found.amount;
+    rate_constant_dimension(order)
+        .approx_eq(found)
+        .then_some(order)
+}
+
+fn rate_constant_example(order: f64) -> String {
+    let n = order - 1.0;
+    if n.abs() < 1e-9 {
+        "1/s".to_string()
+    } else if (n + 1.0).abs() < 1e-9 {
+        "mol/(L*s)".to_string()
+    } else if n.fract() == 0.0 && n > 0.0 {
+        if n == 1.0 {
+            "L/(mol*s)".to_string()
+        } else {
+            format!("L^{n}/(mol^{n}*s)")
+        }
+    } else {
+        format!("(L/mol)^{n}/s")
+    }
+}
+
+impl Checker<'_> {
+    /// Relations between keys: species use, fill, jacket, the reaction network.
+    fn relations(&mut self, case: &Case) {
+        self.species_use(case);
+        self.vessel_fit(case);
+        self.network_bounded(case);
+        self.temperature_order(case);
+    }
+
+    fn species_use(&mut self, case: &Case) {
+        let used: Vec<&str> = case
+            .reactions
+            .iter()
+            .flat_map(|r| r.equation.species())
+            .collect();
+        let reactants: Vec<&str> = case
+            .reactions
+            .iter()
+            .flat_map(|r| r.equation.reactants.iter().map(|t| t.species.as_str()))
+            .collect();
+        if let Some(feed) = &case.feed {
+            for name in feed.amounts.keys() {
+                if !reactants.contains(&name.as_str()) {
+                    self.error(
+                        &format!("feed.amounts.{name}"),
+                        format!("the feed holds \"{name}\" but no reaction uses it as a reactant"),
+                        format!("a reactant of the reactions: {}", reactants.join(", ")),
+                    );
+                }
+            }
+        }
+        for (stream, amounts) in [
+            ("charge", Some(&case.charge.amounts)),
+            ("feed", case.feed.as_ref().map(|f| &f.amounts)),
+        ] {
+            for name in amounts.into_iter().flat_map(|a| a.keys()) {
+                if case.species.get(name).is_some_and(|s| s.gas) {
+                    self.error(&format!("{stream}.amounts.{name}"), format!("\"{name}\" is marked gas: true and cannot be charged or fed as a liquid"), format!("species.{name}.gas: false"));
+                }
+                if stream == "charge" && !used.contains(&name.as_str()) {
+                    self.warn("species-unused", format!("charge.amounts.{name}: \"{name}\" takes part in no reaction; it counts only through the charge's mass"));
+                }
+            }
+        }
+        for (name, data) in &case.species {
+            if !used.contains(&name.as_str()) {
+                self.warn(
+                    "species-unused",
+                    format!("species.{name} is named but takes part in no reaction"),
+                );
+            } else if data.gas && data.molar_mass.is_none() {
+                self.warn("gas-without-molar-mass", format!("species.{name} is a gas without a molar mass: its off-gas mass is taken as zero"));
+            }
+        }
+    }
+
+    fn vessel_fit(&mut self, case: &Case) {
+        let v = &case.vessel;
+        let geometry = match VesselGeometry::new(
+            v.bottom,
+            v.diameter.get::<meter>(),
+            v.nominal_volume.get::<cubic_meter>(),
+        ) {
+            Ok(g) => g,
+            Err(e) => {
+                self.error(
+                    "vessel.nominal_volume",
+                    format!("{e} (with vessel.diameter and vessel.bottom)"),
+                    "a nominal volume above the volume of the bottom head",
+                );
+                return;
+            }
+        };
+        let final_volume = final_liquid_volume(case);
+        let nominal = v.nominal_volume.get::<cubic_meter>();
+        if final_volume > nominal * (1.0 + 1e-12) {
+            let feed_keys = if case.feed.is_some() {
+                ", feed.mass, feed.density"
+            } else {
+                ""
+            };
+            self.error(
+                "vessel.nominal_volume",
+                format!("the contents reach {final_volume:.3} m^3, above the nominal volume {nominal:.3} m^3 (from charge.mass, charge.density{feed_keys})"),
+                "a larger vessel.nominal_volume, or smaller masses or higher densities",
+            );
+        }
+        let jacket = v.jacket_height.get::<meter>();
+        let top = geometry.height();
+        if jacket > top * (1.0 + 1e-12) {
+            self.error(
+                "vessel.jacket_height",
+                format!("the jacket reaches {jacket:.3} m, above the top of the vessel at {top:.3} m (from vessel.nominal_volume, vessel.diameter and vessel.bottom)"),
+                format!("a jacket height up to {top:.3} m"),
+            );
+            return;
+        }
+        let wetted = geometry.wetted_area(final_volume);
+        let cooled = geometry.jacketed_area(final_volume, jacket);
+        if wetted > 0.0 && cooled < 0.5 * wetted {
+            self.warn("jacket-coverage", format!("at the final fill the jacket covers {:.0} % of the wetted wall ({cooled:.2} of {wetted:.2} m^2), less than half", 100.0 * cooled / wetted));
+        }
+        if geometry.level(case.charge.volume_m3()) < geometry.bottom_depth() {
+            self.warn("fill-below-bottom-head", "the initial charge does not fill the bottom head; the wetted area and heat transfer at low fill are uncertain");
+        }
+    }
+
+    fn network_bounded(&mut self, case: &Case) {
+        let network = Network::from_case(case);
+        if !releasable_heat_is_bounded(&network) {
+            self.error("reactions", "the releasable heat of the reaction network is unbounded (a cycle of exothermic reactions)", "a network in which no cycle of reactions releases heat");
+        }
+    }
+
+    fn temperature_order(&mut self, case: &Case) {
+        let tp = case.process_temperature.get::<kelvin>();
+        if case.coolant_temperature.get::<kelvin>() >= tp {
+            self.warn("coolant-not-colder", "coolant.temperature is not below process.temperature: the jacket cannot cool at Tp");
+        }
+        if case.mtt.get::<kelvin>() <= tp {
+            self.warn("mtt-below-process", "limits.mtt is not above process.temperature: the process runs at or above its maximum technical temperature");
+        }
+        if let Some(feed) = &case.feed {
+            let end = (feed.start + feed.duration).get::<second>();
+            if end > case.process_duration.get::<second>() * (1.0 + 1e-12) {
+                self.warn("feed-beyond-process", "the feed ends after process.duration: normal operation is reported only up to process.duration");
+            }
+        }
+    }
+}
+
+fn final_liquid_volume(case: &Case) -> f64 {
+    case.charge.volume_m3()
+        + case
+            .feed
+            .as_ref()
+            .map_or(0.0, |f| (f.mass / f.density).get::<cubic_meter>())
+}
+
+impl Charge {
+    pub fn volume_m3(&self) -> f64 {
+        (self.mass / self.density).get::<cubic_meter>()
+    }
+}

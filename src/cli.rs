@@ -1,0 +1,111 @@
+//! The command line: `exoscreen check CASE`, its options, and what each outcome exits with.
+
+use crate::assess::{AssessError, assess};
+use crate::case::{CaseError, load_case_file};
+use crate::report::json::JsonExporter;
+use crate::report::table::TableExporter;
+use crate::report::{Exporter, Source};
+use clap::{Parser, Subcommand, ValueEnum};
+use std::io::Write;
+use std::path::PathBuf;
+
+const EXIT_CODES: &str = "Exit status:
+  0  the figures were computed (whatever the verdict)
+  1  the computation itself failed (the message says which scenario and why)
+  2  bad input or usage (the message names file, line, column and key)
+  3  with --fail-at-class N: the criticality class is N or above, or there is no class";
+
+#[derive(Debug, Parser)]
+#[command(name = "exoscreen", version, about = "Thermal-runaway screening of an exothermic recipe in a jacketed vessel", after_help = EXIT_CODES)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Compute the screening figures of one case: adiabatic rise, accumulation, MTSR,
+    /// simulated MTSR, MTT, TD24, TMRad, criticality class, cooling.
+    #[command(after_help = EXIT_CODES)]
+    Check(CheckArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct CheckArgs {
+    /// The case file (YAML, format 1).
+    pub case: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// Exit with status 3 when the criticality class is N or above (or cannot be given).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u8).range(1..=5))]
+    pub fail_at_class: Option<u8>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    Table,
+    Json,
+}
+
+/// Everything that can end a run without figures.
+#[derive(Debug, thiserror::Error)]
+pub enum AppError {
+    #[error("{0}")]
+    Case(#[from] CaseError),
+    #[error("computation failed: {0}")]
+    Assess(#[from] AssessError),
+    #[error("cannot write the report: {0}")]
+    Output(#[from] std::io::Error),
+}
+
+impl AppError {
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            AppError::Case(_) => 2,
+            AppError::Assess(_) | AppError::Output(_) => 1,
+        }
+    }
+}
+
+/// What a successful run found, for the exit status.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Outcome {
+    Computed,
+    GateFailed,
+}
+
+pub fn run(cli: Cli) -> Result<Outcome, AppError> {
+    match cli.command {
+        Command::Check(args) => check(&args),
+    }
+}
+
+fn check(args: &CheckArgs) -> Result<Outcome, AppError> {
+    let case = load_case_file(&args.case)?;
+    let assessment = assess(case)?;
+    let source = Source {
+        file: args.case.display().to_string(),
+    };
+    let text = match args.format {
+        Format::Table => TableExporter.render(&assessment, &source),
+        Format::Json => JsonExporter.render(&assessment, &source),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(gate(args.fail_at_class, assessment.figures.class))
+}
+
+fn gate(fail_at: Option<u8>, class: Option<u8>) -> Outcome {
+    match (fail_at, class) {
+        (None, _) => Outcome::Computed,
+        (Some(limit), Some(c)) if c < limit => Outcome::Computed,
+        (Some(limit), found) => {
+            let why = found.map_or(
+                "there is no criticality class (no decomposition data)".to_string(),
+                |c| format!("criticality class {c} is at or above {limit}"),
+            );
+            eprintln!("exoscreen: stage gate failed: {why}");
+            Outcome::GateFailed
+        }
+    }
+}

@@ -1,0 +1,237 @@
+//! The heat and mass balance of the stirred contents: state layout, the right-hand side of
+//! the ODE system, and the derived quantities (volume, area, powers) at any state.
+
+use super::plant::Plant;
+
+/// What is switched on over one stretch of time between discontinuities.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Phase {
+    pub feed_on: bool,
+    pub cooling_on: bool,
+    pub decomposition_on: bool,
+    /// Start of the stretch, s, and the mass fed by then, kg.
+    pub t_start: f64,
+    pub fed_at_start: f64,
+}
+
+/// Positions in the state vector: T, the species (gas species: moles formed so far),
+/// decomposition conversion, cumulative reaction heat and decomposition heat (J).
+#[derive(Debug, Clone, Copy)]
+pub struct Layout {
+    pub species: usize,
+}
+
+impl Layout {
+    pub const TEMPERATURE: usize = 0;
+    pub fn amount(&self, i: usize) -> usize {
+        1 + i
+    }
+    pub fn alpha(&self) -> usize {
+        1 + self.species
+    }
+    pub fn reaction_heat(&self) -> usize {
+        2 + self.species
+    }
+    pub fn decomposition_heat(&self) -> usize {
+        3 + self.species
+    }
+    pub fn state_len(&self) -> usize {
+        4 + self.species
+    }
+}
+
+/// Everything that follows from a state at a time in a phase.
+#[derive(Debug, Clone, Default)]
+pub struct Snapshot {
+    pub time: f64,
+    pub temperature: f64,
+    pub fed_mass: f64,
+    pub volume: f64,
+    pub level: f64,
+    pub cooled_area: f64,
+    pub mass: f64,
+    pub heat_capacity: f64,
+    pub gas_mass: f64,
+    /// W
+    pub reaction_power: f64,
+    pub decomposition_power: f64,
+    pub cooling_power: f64,
+    pub feed_sensible_power: f64,
+    /// kg/s of all gas species leaving
+    pub off_gas_rate: f64,
+    pub alpha: f64,
+}
+
+impl Plant {
+    pub fn layout(&self) -> Layout {
+        Layout {
+            species: self.network.species_count(),
+        }
+    }
+
+    /// The state at t = 0: Tp, the charge, nothing decomposed, nothing released.
+    pub fn initial_state(&self) -> Vec<f64> {
+        let layout = self.layout();
+        let mut x = vec![0.0; layout.state_len()];
+        x[Layout::TEMPERATURE] = self.process_temperature;
+        for (i, n) in self.charge.amounts.iter().enumerate() {
+            x[layout.amount(i)] = *n;
+        }
+        x
+    }
+
+    pub fn fed_mass(&self, phase: &Phase, t: f64) -> f64 {
+        match (&self.feed, phase.feed_on) {
+            (Some(feed), true) => {
+                phase.fed_at_start + feed.mass_rate() * (t - phase.t_start).max(0.0)
+            }
+            _ => phase.fed_at_start,
+        }
+    }
+
+    fn gas_mass(&self, x: &[f64]) -> f64 {
+        let layout = self.layout();
+        let net = &self.network;
+        (0..net.species_count())
+            .filter(|i| net.gas[*i])
+            .map(|i| x[layout.amount(i)] * net.molar_mass[i])
+            .sum()
+    }
+
+    /// Reaction rates r_j, mol/(m^3 s), at temperature T and volume V.
+    pub fn reaction_rates(&self, temperature: f64, volume: f64, x: &[f64], rates: &mut [f64]) {
+        let layout = self.layout();
+        for (rate, law) in rates.iter_mut().zip(&self.network.reactions) {
+            let mut r = law.rate_constant(temperature);
+            for &(i, order) in &law.orders {
+                let concentration = if self.network.gas[i] {
+                    0.0
+                } else {
+                    x[layout.amount(i)].max(0.0) / volume
+                };
+                r *= concentration_power(concentration, order);
+            }
+            *rate = r;
+        }
+    }
+
+    /// Volume, mass, heat capacity and the powers at state x.
+    pub fn snapshot(&self, phase: &Phase, t: f64, x: &[f64]) -> Snapshot {
+        let mut rates = vec![0.0; self.network.reactions.len()];
+        self.snapshot_with(phase, t, x, &mut rates)
+    }
+
+    fn snapshot_with(&self, phase: &Phase, t: f64, x: &[f64], rates: &mut [f64]) -> Snapshot {
+        let layout = self.layout();
+        let temperature = x[Layout::TEMPERATURE];
+        let fed_mass = self.fed_mass(phase, t);
+        let (feed_cp, feed_rho, feed_t, feed_rate) = match &self.feed {
+            Some(f) => (
+                f.stream.specific_heat,
+                f.stream.density,
+                f.temperature,
+                if phase.feed_on { f.mass_rate() } else { 0.0 },
+            ),
+            None => (0.0, 1.0, 0.0, 0.0),
+        };
+        let volume = self.charge.mass / self.charge.density + fed_mass / feed_rho;
+        let gas_mass = self.gas_mass(x);
+        let mass = self.charge.mass + fed_mass - gas_mass;
+        let heat_capacity = self.charge.mass * self.charge.specific_heat + fed_mass * feed_cp
+            - gas_mass * self.charge.specific_heat
+            + self.vessel_heat_capacity;
+        self.reaction_rates(temperature, volume, x, rates);
+        let reaction_power: f64 = rates
+            .iter()
+            .zip(&self.network.reactions)
+            .map(|(r, law)| law.heat_of_reaction * r * volume)
+            .sum();
+        let off_gas_rate = self.off_gas_rate(rates, volume);
+        let alpha = x[layout.alpha()];
+        let decomposition_power = match (&self.decomposition, phase.decomposition_on) {
+            (Some(d), true) => mass * d.rate(temperature, alpha),
+            _ => 0.0,
+        };
+        let level = self.geometry.level(volume);
+        let cooled_area = self.geometry.jacketed_area(volume, self.jacket_height);
+        let cooling_power = if phase.cooling_on {
+            self.u * cooled_area * (temperature - self.coolant_temperature)
+        } else {
+            0.0
+        };
+        Snapshot {
+            time: t,
+            temperature,
+            fed_mass,
+            volume,
+            level,
+            cooled_area,
+            mass,
+            heat_capacity,
+            gas_mass,
+            reaction_power,
+            decomposition_power,
+            cooling_power,
+            feed_sensible_power: feed_rate * feed_cp * (feed_t - temperature),
+            off_gas_rate,
+            alpha,
+        }
+    }
+
+    fn off_gas_rate(&self, rates: &[f64], volume: f64) -> f64 {
+        let net = &self.network;
+        (0..net.species_count())
+            .filter(|i| net.gas[*i])
+            .map(|i| {
+                let formed: f64 = rates
+                    .iter()
+                    .zip(&net.reactions)
+                    .map(|(r, law)| law.nu[i] * r * volume)
+                    .sum();
+                formed * net.molar_mass[i]
+            })
+            .sum()
+    }
+
+    /// dx/dt of the balance (model.md): species, energy, decomposition conversion.
+    pub fn derivatives(&self, phase: &Phase, t: f64, x: &[f64], dx: &mut [f64], rates: &mut [f64]) {
+        let layout = self.layout();
+        let s = self.snapshot_with(phase, t, x, rates);
+        let feed = self.feed.as_ref().filter(|_| phase.feed_on);
+        for i in 0..self.network.species_count() {
+            let reacted: f64 = rates
+                .iter()
+                .zip(&self.network.reactions)
+                .map(|(r, law)| law.nu[i] * r)
+                .sum::<f64>()
+                * s.volume;
+            let fed = feed.map_or(0.0, |f| f.stream.amounts[i] / f.duration);
+            dx[layout.amount(i)] = reacted + fed;
+        }
+        let heat_in =
+            s.reaction_power + s.decomposition_power - s.cooling_power + s.feed_sensible_power;
+        dx[Layout::TEMPERATURE] = heat_in / s.heat_capacity;
+        let feed_rate = feed.map_or(0.0, |f| f.mass_rate());
+        dx[layout.alpha()] = match (&self.decomposition, phase.decomposition_on) {
+            (Some(d), true) => {
+                s.decomposition_power / s.mass / d.energy - s.alpha * feed_rate / s.mass
+            }
+            _ => -s.alpha * feed_rate / s.mass,
+        };
+        dx[layout.reaction_heat()] = s.reaction_power;
+        dx[layout.decomposition_heat()] = s.decomposition_power;
+    }
+}
+
+/// c^order with c^0 = 1 (also for c = 0).
+fn concentration_power(concentration: f64, order: f64) -> f64 {
+    if order == 0.0 {
+        1.0
+    } else if order == 1.0 {
+        concentration
+    } else if order == 2.0 {
+        concentration * concentration
+    } else {
+        concentration.powf(order)
+    }
+}

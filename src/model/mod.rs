@@ -1,0 +1,8 @@
+//! The model: vessel geometry, reaction network, heat balance, integration and scenarios.
+
+pub mod balance;
+pub mod integrate;
+pub mod network;
+pub mod plant;
+pub mod scenario;
+pub mod vessel;

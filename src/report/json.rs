@@ -1,0 +1,111 @@
+//! The JSON report: the keys of the contract (model.md), and a few more.
+
+use super::cautions::CAUTIONS;
+use super::{Exporter, Source, celsius};
+use crate::assess::Assessment;
+use crate::assess::class::class_meaning;
+use crate::case::Dosing;
+use crate::warning::Warning;
+use serde::Serialize;
+
+pub struct JsonExporter;
+
+#[allow(non_snake_case)]
+#[derive(Serialize)]
+struct Report<'a> {
+    format: u32,
+    title: &'a str,
+    adiabatic_temperature_rise_K: f64,
+    process_temperature_C: f64,
+    max_thermal_accumulation: f64,
+    mtsr_C: f64,
+    mtsr_simulated_C: f64,
+    worst_failure_time_h: f64,
+    mtt_C: f64,
+    td24_C: Option<f64>,
+    tmr_ad_at_mtsr_h: Option<f64>,
+    criticality_class: Option<u8>,
+    final_conversion: Option<f64>,
+    normal: Normal,
+    warnings: &'a [Warning],
+    // Beyond the contract.
+    exoscreen_version: &'static str,
+    case_file: &'a str,
+    criticality_class_meaning: Option<&'static str>,
+    criticality_class_with_simulated_mtsr: Option<u8>,
+    mtsr_time_h: f64,
+    max_thermal_accumulation_time_h: f64,
+    releasable_heat_kJ: f64,
+    final_mass_kg: f64,
+    final_heat_capacity_kJ_K: f64,
+    final_conversion_species: Option<&'a str>,
+    failure_dosing: &'static str,
+    failure_runs: usize,
+    cautions: &'static [&'static str],
+}
+
+#[allow(non_snake_case)]
+#[derive(Serialize)]
+struct Normal {
+    max_temperature_C: f64,
+    peak_reaction_power_kW: f64,
+    cooling_capacity_at_peak_kW: f64,
+    cooling_capacity_at_tp_kW: f64,
+    max_temperature_time_h: f64,
+    peak_reaction_power_time_h: f64,
+    final_decomposition_conversion: f64,
+}
+
+const HOUR: f64 = 3600.0;
+
+impl Exporter for JsonExporter {
+    fn render(&self, a: &Assessment, source: &Source) -> String {
+        let f = &a.figures;
+        let n = &f.normal;
+        let report = Report {
+            format: 1,
+            title: &a.case.title,
+            adiabatic_temperature_rise_K: f.adiabatic_rise,
+            process_temperature_C: celsius(a.plant.process_temperature),
+            max_thermal_accumulation: f.max_accumulation,
+            mtsr_C: celsius(f.mtsr),
+            mtsr_simulated_C: celsius(f.worst.max_temperature),
+            worst_failure_time_h: f.worst.failure_time / HOUR,
+            mtt_C: celsius(f.mtt),
+            td24_C: f.td24.map(celsius),
+            tmr_ad_at_mtsr_h: f.tmr_ad_at_mtsr.map(|t| t / HOUR),
+            criticality_class: f.class,
+            final_conversion: f.final_conversion,
+            normal: Normal {
+                max_temperature_C: celsius(n.max_temperature),
+                peak_reaction_power_kW: n.peak_reaction_power / 1e3,
+                cooling_capacity_at_peak_kW: n.cooling_at_peak / 1e3,
+                cooling_capacity_at_tp_kW: n.cooling_capacity_at_tp / 1e3,
+                max_temperature_time_h: n.max_temperature_time / HOUR,
+                peak_reaction_power_time_h: n.peak_time / HOUR,
+                final_decomposition_conversion: n.final_decomposition_conversion,
+            },
+            warnings: &a.warnings,
+            exoscreen_version: env!("CARGO_PKG_VERSION"),
+            case_file: &source.file,
+            criticality_class_meaning: f.class.map(class_meaning),
+            criticality_class_with_simulated_mtsr: f.class_simulated,
+            mtsr_time_h: f.mtsr_time / HOUR,
+            max_thermal_accumulation_time_h: f.max_accumulation_time / HOUR,
+            releasable_heat_kJ: f.releasable_heat / 1e3,
+            final_mass_kg: f.final_mass,
+            final_heat_capacity_kJ_K: f.final_heat_capacity / 1e3,
+            final_conversion_species: f.conversion_species.as_deref(),
+            failure_dosing: match a.plant.dosing_after_failure {
+                Dosing::Continues => "continues",
+                Dosing::Stops => "stops",
+            },
+            failure_runs: f.worst.runs,
+            cautions: &CAUTIONS,
+        };
+        let mut text = serde_json::to_string_pretty(&report)
+            .unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+        text.push('\n');
+        text
+    }
+}

@@ -1,0 +1,292 @@
+//! The terminal report: the case in brief, the figures with their units and basis, the class
+//! and what it means, the warnings and the cautions.
+
+use super::cautions::CAUTIONS;
+use super::{Exporter, Source, celsius};
+use crate::assess::Assessment;
+use crate::assess::class::class_meaning;
+use crate::case::Dosing;
+use comfy_table::presets::UTF8_FULL_CONDENSED;
+use comfy_table::{Cell, CellAlignment, ContentArrangement, Table};
+
+pub struct TableExporter;
+
+const HOUR: f64 = 3600.0;
+
+impl Exporter for TableExporter {
+    fn render(&self, a: &Assessment, source: &Source) -> String {
+        let mut out = String::new();
+        out.push_str(&format!(
+            "exoscreen {} — screening of {}\n",
+            env!("CARGO_PKG_VERSION"),
+            source.file
+        ));
+        out.push_str(&format!("{}\n\n", a.case.title));
+        out.push_str("CASE\n");
+        out.push_str(&case_table(a).to_string());
+        out.push_str("\n\nFIGURES\n");
+        out.push_str(&figures_table(a).to_string());
+        out.push_str("\n\n");
+        out.push_str(&verdict(a));
+        out.push_str("\nWARNINGS\n");
+        if a.warnings.is_empty() {
+            out.push_str("  none\n");
+        }
+        for w in &a.warnings {
+            out.push_str(&format!("  ! [{}] {}\n", w.code, w.message));
+        }
+        out.push_str("\nCAUTIONS\n");
+        for c in CAUTIONS {
+            out.push_str(&format!("  - {c}\n"));
+        }
+        out
+    }
+}
+
+fn new_table(header: &[&str]) -> Table {
+    let mut table = Table::new();
+    table
+        .load_style(UTF8_FULL_CONDENSED)
+        .set_content_arrangement(ContentArrangement::Dynamic)
+        .set_width(110)
+        .set_header(header.to_vec());
+    table
+}
+
+fn case_table(a: &Assessment) -> Table {
+    let p = &a.plant;
+    let mut t = new_table(&["item", "value"]);
+    let g = &p.geometry;
+    let v0 = p.charge.mass / p.charge.density;
+    let v1 = v0
+        + p.feed
+            .as_ref()
+            .map_or(0.0, |f| f.stream.mass / f.stream.density);
+    t.add_row(vec![
+        "vessel".to_string(),
+        format!("D {:.3} m, {} bottom, nominal {:.3} m3 (shell top {:.3} m), jacket to {:.3} m, U {:.0} W/(m2 K)", g.diameter(), g.bottom().name(), a.case.vessel.nominal_volume.get::<uom::si::volume::cubic_meter>(), g.height(), p.jacket_height, p.u),
+    ]);
+    t.add_row(vec![
+        "fill".to_string(),
+        format!(
+            "{v0:.3} -> {v1:.3} m3; level {:.3} -> {:.3} m; cooled area {:.2} -> {:.2} m2",
+            g.level(v0),
+            g.level(v1),
+            g.jacketed_area(v0, p.jacket_height),
+            g.jacketed_area(v1, p.jacket_height)
+        ),
+    ]);
+    t.add_row(vec![
+        "charge".to_string(),
+        format!(
+            "{:.1} kg, cp {:.3} kJ/(kg K), {:.0} kg/m3; {}",
+            p.charge.mass,
+            p.charge.specific_heat / 1e3,
+            p.charge.density,
+            amounts(p, &p.charge.amounts)
+        ),
+    ]);
+    match &p.feed {
+        Some(f) => t.add_row(vec![
+            "feed".to_string(),
+            format!(
+                "{:.1} kg at {:.1} degC over {:.2} -> {:.2} h ({:.1} kg/h); {}",
+                f.stream.mass,
+                celsius(f.temperature),
+                f.start / HOUR,
+                f.end() / HOUR,
+                f.mass_rate() * HOUR,
+                amounts(p, &f.stream.amounts)
+            ),
+        ]),
+        None => t.add_row(vec!["feed".to_string(), "none (batch)".to_string()]),
+    };
+    for (r, law) in a.case.reactions.iter().zip(&p.network.reactions) {
+        t.add_row(vec![
+            "reaction".to_string(),
+            format!(
+                "{}: dH {:.1} kJ/mol, k {:.4e} SI at {:.1} degC, Ea {:.1} kJ/mol",
+                r.equation.text,
+                -law.heat_of_reaction / 1e3,
+                law.k_ref,
+                celsius(law.reference_temperature),
+                law.activation_energy / 1e3
+            ),
+        ]);
+    }
+    t.add_row(vec![
+        "temperatures".to_string(),
+        format!(
+            "Tp {:.1} degC, coolant {:.1} degC, MTT {:.1} degC",
+            celsius(p.process_temperature),
+            celsius(p.coolant_temperature),
+            celsius(p.mtt)
+        ),
+    ]);
+    let dosing = match p.dosing_after_failure {
+        Dosing::Continues => "feed continues",
+        Dosing::Stops => "feed stops",
+    };
+    t.add_row(vec![
+        "cooling failure".to_string(),
+        format!("{dosing}; followed {:.1} h", p.failure_horizon / HOUR),
+    ]);
+    let decomposition = match &p.decomposition {
+        Some(d) => format!(
+            "{:.0} kJ/kg, {:.3} W/kg at {:.1} degC, Ea {:.1} kJ/mol, order {}",
+            d.energy / 1e3,
+            d.q_ref,
+            celsius(d.reference_temperature),
+            d.activation_energy / 1e3,
+            d.order
+        ),
+        None => "no data".to_string(),
+    };
+    t.add_row(vec!["decomposition".to_string(), decomposition]);
+    t
+}
+
+fn amounts(p: &crate::model::plant::Plant, n: &[f64]) -> String {
+    let parts: Vec<String> = p
+        .network
+        .species
+        .iter()
+        .zip(n)
+        .filter(|(_, v)| **v > 0.0)
+        .map(|(s, v)| format!("{s} {:.3} kmol", v / 1e3))
+        .collect();
+    if parts.is_empty() {
+        "no reactants".to_string()
+    } else {
+        parts.join(", ")
+    }
+}
+
+fn row(t: &mut Table, name: &str, value: String, unit: &str, basis: String) {
+    t.add_row(vec![
+        Cell::new(name),
+        Cell::new(value).set_alignment(CellAlignment::Right),
+        Cell::new(unit),
+        Cell::new(basis),
+    ]);
+}
+
+fn opt(value: Option<f64>, digits: usize) -> String {
+    value.map_or("—".to_string(), |v| format!("{v:.digits$}"))
+}
+
+fn figures_table(a: &Assessment) -> Table {
+    let f = &a.figures;
+    let n = &f.normal;
+    let mut t = new_table(&["figure", "value", "unit", "basis"]);
+    row(
+        &mut t,
+        "adiabatic temperature rise",
+        format!("{:.1}", f.adiabatic_rise),
+        "K",
+        format!(
+            "releasable heat {:.0} MJ / C_final {:.0} kJ/K",
+            f.releasable_heat / 1e6,
+            f.final_heat_capacity / 1e3
+        ),
+    );
+    row(
+        &mut t,
+        "max thermal accumulation",
+        format!("{:.1}", 100.0 * f.max_accumulation),
+        "%",
+        format!("at {:.2} h", f.max_accumulation_time / HOUR),
+    );
+    row(
+        &mut t,
+        "MTSR",
+        format!("{:.1}", celsius(f.mtsr)),
+        "degC",
+        format!("max of T + Q_acc/C(t), at {:.2} h", f.mtsr_time / HOUR),
+    );
+    row(
+        &mut t,
+        "simulated MTSR",
+        format!("{:.1}", celsius(f.worst.max_temperature)),
+        "degC",
+        format!(
+            "worst cooling failure at {:.2} h, decomposition off ({} runs)",
+            f.worst.failure_time / HOUR,
+            f.worst.runs
+        ),
+    );
+    row(
+        &mut t,
+        "MTT",
+        format!("{:.1}", celsius(f.mtt)),
+        "degC",
+        "from the case (boiling point or relief set point)".to_string(),
+    );
+    row(
+        &mut t,
+        "TD24",
+        opt(f.td24.map(celsius), 1),
+        "degC",
+        "TMRad = 24 h, zero order (Townsend and Tou)".to_string(),
+    );
+    row(
+        &mut t,
+        "TMRad at MTSR",
+        opt(f.tmr_ad_at_mtsr.map(|s| s / HOUR), 2),
+        "h",
+        "cp_final R T^2 / (q(T) Ea)".to_string(),
+    );
+    row(
+        &mut t,
+        "criticality class",
+        f.class.map_or("none".to_string(), |c| c.to_string()),
+        "",
+        "Stoessel; needs decomposition data".to_string(),
+    );
+    row(
+        &mut t,
+        "final conversion",
+        opt(f.final_conversion.map(|x| 100.0 * x), 1),
+        "%",
+        format!(
+            "of {} at the end of normal operation",
+            f.conversion_species.as_deref().unwrap_or("—")
+        ),
+    );
+    row(
+        &mut t,
+        "max temperature, normal",
+        format!("{:.1}", celsius(n.max_temperature)),
+        "degC",
+        format!("at {:.2} h", n.max_temperature_time / HOUR),
+    );
+    row(
+        &mut t,
+        "peak reaction power",
+        format!("{:.1}", n.peak_reaction_power / 1e3),
+        "kW",
+        format!("at {:.2} h", n.peak_time / HOUR),
+    );
+    row(
+        &mut t,
+        "cooling at the peak",
+        format!("{:.1}", n.cooling_at_peak / 1e3),
+        "kW",
+        "U A(h) (T - T_coolant)".to_string(),
+    );
+    row(
+        &mut t,
+        "cooling capacity at Tp",
+        format!("{:.1}", n.cooling_capacity_at_tp / 1e3),
+        "kW",
+        "U A(h) (Tp - T_coolant) at the peak".to_string(),
+    );
+    t
+}
+
+fn verdict(a: &Assessment) -> String {
+    match a.figures.class {
+        Some(c) => format!("CRITICALITY CLASS {c}\n  {}\n", class_meaning(c)),
+        None => "CRITICALITY CLASS: none — there are no decomposition data, so TD24 and the class cannot be given. Obtain DSC/ARC data of the reaction mass before relying on this screening.\n".to_string(),
+    }
+}
