@@ -193,6 +193,12 @@ impl Plant {
             .sum()
     }
 
+    /// dT/dt at state x, K/s: the net heat flow over the heat capacity.
+    pub fn temperature_rate(&self, phase: &Phase, t: f64, x: &[f64]) -> f64 {
+        let s = self.snapshot(phase, t, x);
+        (s.reaction_power + s.decomposition_power - s.cooling_power + s.feed_sensible_power) / s.heat_capacity
+    }
+
     /// dx/dt of the balance (model.md): species, energy, decomposition conversion.
     pub fn derivatives(&self, phase: &Phase, t: f64, x: &[f64], dx: &mut [f64], rates: &mut [f64]) {
         let layout = self.layout();
