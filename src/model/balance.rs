@@ -118,10 +118,21 @@ impl Plant {
     /// Volume, mass, heat capacity and the powers at state x.
     pub fn snapshot(&self, phase: &Phase, t: f64, x: &[f64]) -> Snapshot {
         let mut rates = vec![0.0; self.network.reactions.len()];
-        self.snapshot_with(phase, t, x, &mut rates)
+        let mut s = self.snapshot_with(phase, t, x, &mut rates, true);
+        s.level = self.geometry.level(s.volume);
+        s
     }
 
-    fn snapshot_with(&self, phase: &Phase, t: f64, x: &[f64], rates: &mut [f64]) -> Snapshot {
+    /// The snapshot; `with_area` false skips the wetted area where no cooling needs it (the
+    /// right-hand side after a cooling failure).
+    fn snapshot_with(
+        &self,
+        phase: &Phase,
+        t: f64,
+        x: &[f64],
+        rates: &mut [f64],
+        with_area: bool,
+    ) -> Snapshot {
         let layout = self.layout();
         let temperature = x[Layout::TEMPERATURE];
         let fed_mass = self.fed_mass(phase, t);
@@ -152,8 +163,11 @@ impl Plant {
             (Some(d), true) => mass * d.rate(temperature, alpha),
             _ => 0.0,
         };
-        let level = self.geometry.level(volume);
-        let cooled_area = self.geometry.jacketed_area(volume, self.jacket_height);
+        let cooled_area = if with_area || phase.cooling_on {
+            self.geometry.jacketed_area(volume, self.jacket_height)
+        } else {
+            0.0
+        };
         let cooling_power = if phase.cooling_on {
             self.u * cooled_area * (temperature - self.coolant_temperature)
         } else {
@@ -164,7 +178,7 @@ impl Plant {
             temperature,
             fed_mass,
             volume,
-            level,
+            level: f64::NAN,
             cooled_area,
             mass,
             heat_capacity,
@@ -196,13 +210,14 @@ impl Plant {
     /// dT/dt at state x, K/s: the net heat flow over the heat capacity.
     pub fn temperature_rate(&self, phase: &Phase, t: f64, x: &[f64]) -> f64 {
         let s = self.snapshot(phase, t, x);
-        (s.reaction_power + s.decomposition_power - s.cooling_power + s.feed_sensible_power) / s.heat_capacity
+        (s.reaction_power + s.decomposition_power - s.cooling_power + s.feed_sensible_power)
+            / s.heat_capacity
     }
 
     /// dx/dt of the balance (model.md): species, energy, decomposition conversion.
     pub fn derivatives(&self, phase: &Phase, t: f64, x: &[f64], dx: &mut [f64], rates: &mut [f64]) {
         let layout = self.layout();
-        let s = self.snapshot_with(phase, t, x, rates);
+        let s = self.snapshot_with(phase, t, x, rates, false);
         let feed = self.feed.as_ref().filter(|_| phase.feed_on);
         for i in 0..self.network.species_count() {
             let reacted: f64 = rates
