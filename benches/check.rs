@@ -5,7 +5,12 @@ use exoscreen::assess::assess;
 use exoscreen::case::load::load_case_text;
 use std::time::{Duration, Instant};
 
-const CASES: [&str; 1] = ["cases/bromination-semibatch.yaml"];
+const CASES: [&str; 4] = [
+    "cases/bromination-semibatch.yaml",
+    "cases/chlorination-accumulating.yaml",
+    "cases/batch-elliptical.yaml",
+    "cases/nitration-no-dsc.yaml",
+];
 
 fn median(mut samples: Vec<Duration>) -> Duration {
     samples.sort();

@@ -42,13 +42,15 @@ fn limits(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
         out.push(Warning::new("mtsr-above-mtt", format!("MTSR {:.1} degC reaches the MTT {:.1} degC: after a cooling failure the mass boils or the relief opens", c(f.mtsr), c(f.mtt))));
     }
     if f.worst.max_temperature > f.mtsr + 0.5 {
-        let why = match plant.dosing_after_failure {
-            Dosing::Continues => "because the feed goes on after the failure",
-            Dosing::Stops => "",
+        let has_gas = plant.network.gas.iter().zip(&plant.network.molar_mass).any(|(g, m)| *g && *m > 0.0);
+        let why = match (plant.dosing_after_failure, has_gas) {
+            (Dosing::Continues, _) => "because the feed goes on after the failure",
+            (Dosing::Stops, true) => "because the off-gas formed after the failure takes its heat capacity out of the vessel (MTSR divides by the heat capacity at the failure)",
+            (Dosing::Stops, false) => "",
         };
         out.push(Warning::new(
             "simulated-mtsr-above-mtsr",
-            format!("the simulated MTSR {:.1} degC (failure at {:.2} h) exceeds the MTSR {:.1} degC {why}; the class uses the MTSR, a dosing stop interlock on cooling failure is what makes it hold", c(f.worst.max_temperature), f.worst.failure_time / 3600.0, c(f.mtsr)),
+            format!("the simulated MTSR {:.1} degC (failure at {:.2} h) exceeds the MTSR {:.1} degC {why}; the class follows the MTSR as defined", c(f.worst.max_temperature), f.worst.failure_time / 3600.0, c(f.mtsr)),
         ));
         if let (Some(a), Some(b)) = (f.class, f.class_simulated) {
             if b > a {
