@@ -1,17 +1,37 @@
 //! The case file as written: serde structs that mirror the YAML keys one to one.
 //!
 //! Every quantity is kept as its text (`"75 kJ/mol"`) here; `validate` turns the text into
-//! checked SI quantities. Unknown keys are rejected by serde (`deny_unknown_fields`); a
-//! missing required key is reported by `validate`, so that several can be named at once.
+//! checked SI quantities. Unknown keys are collected (`unknown`, through `serde(flatten)`)
+//! and a missing required key is left `None`: `validate` reports both, so that one run
+//! names every problem of the file at once.
 
 use serde::Deserialize;
 use serde::de::{self, Deserializer, Visitor};
 use std::collections::BTreeMap;
 use std::fmt;
 
-/// A scalar value kept as text: a quantity string, a bare number or a word.
+/// A scalar value kept as text: a quantity string, a bare number or a word. A list, a
+/// mapping or a tagged value where a single value belongs is kept too (as its `Shape`), so
+/// that `validate` reports it with the key's example, among the other errors.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Scalar(pub String);
+pub struct Scalar(pub String, pub Shape);
+
+/// What the file holds where a single value belongs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Shape {
+    Single,
+    List,
+    Mapping,
+    /// A value with a YAML tag (`!name`); the text is the tag.
+    Tagged,
+}
+
+impl Scalar {
+    /// A single value.
+    pub fn single(text: impl Into<String>) -> Scalar {
+        Scalar(text.into(), Shape::Single)
+    }
+}
 
 impl<'de> Deserialize<'de> for Scalar {
     fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
@@ -28,19 +48,121 @@ impl<'de> Visitor<'de> for ScalarVisitor {
         f.write_str("a single value such as \"75 kJ/mol\", a number or a word")
     }
     fn visit_str<E: de::Error>(self, v: &str) -> Result<Scalar, E> {
-        Ok(Scalar(v.to_string()))
+        Ok(Scalar::single(v.to_string()))
     }
     fn visit_bool<E: de::Error>(self, v: bool) -> Result<Scalar, E> {
-        Ok(Scalar(v.to_string()))
+        Ok(Scalar::single(v.to_string()))
     }
     fn visit_i64<E: de::Error>(self, v: i64) -> Result<Scalar, E> {
-        Ok(Scalar(v.to_string()))
+        Ok(Scalar::single(v.to_string()))
     }
     fn visit_u64<E: de::Error>(self, v: u64) -> Result<Scalar, E> {
-        Ok(Scalar(v.to_string()))
+        Ok(Scalar::single(v.to_string()))
     }
     fn visit_f64<E: de::Error>(self, v: f64) -> Result<Scalar, E> {
-        Ok(Scalar(format!("{v:?}")))
+        // YAML's own spellings, so that a message quotes what the file says.
+        let text = if v.is_nan() {
+            ".nan".to_string()
+        } else if v.is_infinite() {
+            if v > 0.0 { ".inf" } else { "-.inf" }.to_string()
+        } else {
+            format!("{v:?}")
+        };
+        Ok(Scalar::single(text))
+    }
+    fn visit_seq<A: de::SeqAccess<'de>>(self, mut seq: A) -> Result<Scalar, A::Error> {
+        while seq.next_element::<de::IgnoredAny>()?.is_some() {}
+        Ok(Scalar(String::new(), Shape::List))
+    }
+    fn visit_map<A: de::MapAccess<'de>>(self, mut map: A) -> Result<Scalar, A::Error> {
+        while map
+            .next_entry::<de::IgnoredAny, de::IgnoredAny>()?
+            .is_some()
+        {}
+        Ok(Scalar(String::new(), Shape::Mapping))
+    }
+    fn visit_enum<A: de::EnumAccess<'de>>(self, data: A) -> Result<Scalar, A::Error> {
+        use de::VariantAccess;
+        let (tag, value) = data.variant::<String>()?;
+        value.newtype_variant::<de::IgnoredAny>()?;
+        Ok(Scalar(format!("!{tag}"), Shape::Tagged))
+    }
+}
+
+/// The keys of a mapping that its section does not know, as written (a key that is not
+/// text, such as a list, is shown as `<complex key>`).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct UnknownKeys(pub Vec<String>);
+
+impl<'de> Deserialize<'de> for UnknownKeys {
+    fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        deserializer.deserialize_map(UnknownKeysVisitor)
+    }
+}
+
+struct UnknownKeysVisitor;
+
+impl<'de> Visitor<'de> for UnknownKeysVisitor {
+    type Value = UnknownKeys;
+
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("a mapping")
+    }
+    fn visit_map<A: de::MapAccess<'de>>(self, mut map: A) -> Result<UnknownKeys, A::Error> {
+        let mut keys = Vec::new();
+        while let Some(KeyText(key)) = map.next_key()? {
+            map.next_value::<de::IgnoredAny>()?;
+            keys.push(key);
+        }
+        Ok(UnknownKeys(keys))
+    }
+}
+
+/// A mapping key of any kind, as text.
+struct KeyText(String);
+
+impl<'de> Deserialize<'de> for KeyText {
+    fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        deserializer.deserialize_any(KeyTextVisitor)
+    }
+}
+
+struct KeyTextVisitor;
+
+impl<'de> Visitor<'de> for KeyTextVisitor {
+    type Value = KeyText;
+
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("a key")
+    }
+    fn visit_str<E: de::Error>(self, v: &str) -> Result<KeyText, E> {
+        Ok(KeyText(v.to_string()))
+    }
+    fn visit_bool<E: de::Error>(self, v: bool) -> Result<KeyText, E> {
+        Ok(KeyText(v.to_string()))
+    }
+    fn visit_i64<E: de::Error>(self, v: i64) -> Result<KeyText, E> {
+        Ok(KeyText(v.to_string()))
+    }
+    fn visit_u64<E: de::Error>(self, v: u64) -> Result<KeyText, E> {
+        Ok(KeyText(v.to_string()))
+    }
+    fn visit_f64<E: de::Error>(self, v: f64) -> Result<KeyText, E> {
+        ScalarVisitor.visit_f64(v).map(|s| KeyText(s.0))
+    }
+    fn visit_unit<E: de::Error>(self) -> Result<KeyText, E> {
+        Ok(KeyText("null".to_string()))
+    }
+    fn visit_seq<A: de::SeqAccess<'de>>(self, mut seq: A) -> Result<KeyText, A::Error> {
+        while seq.next_element::<de::IgnoredAny>()?.is_some() {}
+        Ok(KeyText("<complex key>".to_string()))
+    }
+    fn visit_map<A: de::MapAccess<'de>>(self, mut map: A) -> Result<KeyText, A::Error> {
+        while map
+            .next_entry::<de::IgnoredAny, de::IgnoredAny>()?
+            .is_some()
+        {}
+        Ok(KeyText("<complex key>".to_string()))
     }
 }
 
@@ -48,7 +170,6 @@ impl<'de> Visitor<'de> for ScalarVisitor {
 pub type ScalarMap = BTreeMap<String, Scalar>;
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawCase {
     pub format: Option<Scalar>,
     pub title: Option<Scalar>,
@@ -62,27 +183,33 @@ pub struct RawCase {
     pub failure: Option<RawFailure>,
     pub decomposition: Option<RawDecomposition>,
     pub limits: Option<RawLimits>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawSpecies {
     pub molar_mass: Option<Scalar>,
-    pub gas: Option<bool>,
+    pub gas: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 /// The initial charge (all keys required).
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawStream {
     pub mass: Option<Scalar>,
     pub specific_heat: Option<Scalar>,
     pub density: Option<Scalar>,
     pub amounts: Option<ScalarMap>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawFeed {
     pub mass: Option<Scalar>,
     pub specific_heat: Option<Scalar>,
@@ -91,10 +218,12 @@ pub struct RawFeed {
     pub amounts: Option<ScalarMap>,
     pub start: Option<Scalar>,
     pub duration: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawReaction {
     pub equation: Option<Scalar>,
     pub enthalpy: Option<Scalar>,
@@ -102,10 +231,12 @@ pub struct RawReaction {
     pub reference_temperature: Option<Scalar>,
     pub activation_energy: Option<Scalar>,
     pub orders: Option<ScalarMap>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawVessel {
     pub diameter: Option<Scalar>,
     pub bottom: Option<Scalar>,
@@ -113,40 +244,225 @@ pub struct RawVessel {
     pub jacket_height: Option<Scalar>,
     pub heat_transfer_coefficient: Option<Scalar>,
     pub heat_capacity: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawCoolant {
     pub temperature: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawProcess {
     pub temperature: Option<Scalar>,
     pub duration: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawFailure {
     pub dosing: Option<Scalar>,
     pub horizon: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawDecomposition {
     pub energy: Option<Scalar>,
     pub heat_release_rate: Option<Scalar>,
     pub reference_temperature: Option<Scalar>,
     pub activation_energy: Option<Scalar>,
     pub order: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
 }
 
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct RawLimits {
     pub mtt: Option<Scalar>,
+    /// Keys this section does not have, in the order written.
+    #[serde(flatten)]
+    pub unknown: UnknownKeys,
+}
+
+/// The keys each section accepts, in the order the case reference lists them.
+pub trait Keys {
+    const KEYS: &'static [&'static str];
+}
+
+impl Keys for RawCase {
+    const KEYS: &'static [&'static str] = &[
+        "format",
+        "title",
+        "species",
+        "charge",
+        "feed",
+        "reactions",
+        "vessel",
+        "coolant",
+        "process",
+        "failure",
+        "decomposition",
+        "limits",
+    ];
+}
+
+impl Keys for RawSpecies {
+    const KEYS: &'static [&'static str] = &["molar_mass", "gas"];
+}
+
+impl Keys for RawStream {
+    const KEYS: &'static [&'static str] = &["mass", "specific_heat", "density", "amounts"];
+}
+
+impl Keys for RawFeed {
+    const KEYS: &'static [&'static str] = &[
+        "mass",
+        "specific_heat",
+        "density",
+        "temperature",
+        "amounts",
+        "start",
+        "duration",
+    ];
+}
+
+impl Keys for RawReaction {
+    const KEYS: &'static [&'static str] = &[
+        "equation",
+        "enthalpy",
+        "rate_constant",
+        "reference_temperature",
+        "activation_energy",
+        "orders",
+    ];
+}
+
+impl Keys for RawVessel {
+    const KEYS: &'static [&'static str] = &[
+        "diameter",
+        "bottom",
+        "nominal_volume",
+        "jacket_height",
+        "heat_transfer_coefficient",
+        "heat_capacity",
+    ];
+}
+
+impl Keys for RawCoolant {
+    const KEYS: &'static [&'static str] = &["temperature"];
+}
+
+impl Keys for RawProcess {
+    const KEYS: &'static [&'static str] = &["temperature", "duration"];
+}
+
+impl Keys for RawFailure {
+    const KEYS: &'static [&'static str] = &["dosing", "horizon"];
+}
+
+impl Keys for RawDecomposition {
+    const KEYS: &'static [&'static str] = &[
+        "energy",
+        "heat_release_rate",
+        "reference_temperature",
+        "activation_energy",
+        "order",
+    ];
+}
+
+impl Keys for RawLimits {
+    const KEYS: &'static [&'static str] = &["mtt"];
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every listed key is a field of its struct: writing it does not make it unknown.
+    fn listed_keys_are_fields<T: Keys + for<'de> Deserialize<'de> + HasUnknown>() {
+        for key in T::KEYS {
+            let raw: T = serde_yaml::from_str(&format!("{key}: null\nzzz: 2\n"))
+                .unwrap_or_else(|e| panic!("{key}: {e}"));
+            assert_eq!(raw.unknown().0, vec!["zzz".to_string()], "{key}");
+        }
+    }
+
+    trait HasUnknown {
+        fn unknown(&self) -> &UnknownKeys;
+    }
+
+    macro_rules! has_unknown {
+        ($($t:ty),*) => {$(
+            impl HasUnknown for $t {
+                fn unknown(&self) -> &UnknownKeys {
+                    &self.unknown
+                }
+            }
+        )*};
+    }
+    has_unknown!(
+        RawSpecies,
+        RawStream,
+        RawFeed,
+        RawReaction,
+        RawVessel,
+        RawCoolant,
+        RawProcess,
+        RawFailure,
+        RawDecomposition,
+        RawLimits
+    );
+
+    #[test]
+    fn key_lists_match_the_structs() {
+        listed_keys_are_fields::<RawSpecies>();
+        listed_keys_are_fields::<RawStream>();
+        listed_keys_are_fields::<RawFeed>();
+        listed_keys_are_fields::<RawCoolant>();
+        listed_keys_are_fields::<RawProcess>();
+        listed_keys_are_fields::<RawFailure>();
+        listed_keys_are_fields::<RawDecomposition>();
+        listed_keys_are_fields::<RawLimits>();
+        listed_keys_are_fields::<RawVessel>();
+    }
+
+    #[test]
+    fn unknown_keys_of_any_kind_are_collected_in_order() {
+        let raw: RawVessel = serde_yaml::from_str("diameter: 1 m\nagitator: x\n3: y\n").unwrap();
+        assert_eq!(raw.diameter, Some(Scalar::single("1 m")));
+        assert_eq!(raw.unknown.0, vec!["agitator", "3"]);
+    }
+
+    #[test]
+    fn lists_mappings_and_tags_are_kept_as_shapes() {
+        let raw: RawStream =
+            serde_yaml::from_str("mass: [1, kg]\ndensity: { a: 1 }\nspecific_heat: !kJ 2\n")
+                .unwrap();
+        assert_eq!(raw.mass, Some(Scalar(String::new(), Shape::List)));
+        assert_eq!(raw.density, Some(Scalar(String::new(), Shape::Mapping)));
+        assert_eq!(
+            raw.specific_heat,
+            Some(Scalar("!kJ".to_string(), Shape::Tagged))
+        );
+    }
+
+    #[test]
+    fn non_finite_floats_keep_their_yaml_spelling() {
+        let raw: RawDecomposition =
+            serde_yaml::from_str("order: .nan\nenergy: -.inf\nheat_release_rate: .inf\n").unwrap();
+        assert_eq!(raw.order, Some(Scalar::single(".nan")));
+        assert_eq!(raw.energy, Some(Scalar::single("-.inf")));
+        assert_eq!(raw.heat_release_rate, Some(Scalar::single(".inf")));
+    }
 }

@@ -4,7 +4,10 @@
 use super::equation::{Equation, parse_equation};
 use super::error::InputError;
 use super::positions::PositionMap;
-use super::schema::{RawCase, RawFeed, RawReaction, RawStream, RawVessel, Scalar, ScalarMap};
+use super::schema::{
+    Keys, RawCase, RawCoolant, RawDecomposition, RawFailure, RawFeed, RawLimits, RawProcess,
+    RawReaction, RawSpecies, RawStream, RawVessel, Scalar, ScalarMap, Shape, UnknownKeys,
+};
 use super::units::{Dimension, parse_quantity};
 use super::{
     Bottom, Case, Charge, Decomposition, Dosing, Failure, Feed, RateConstant, Reaction,
@@ -31,6 +34,8 @@ struct Kind {
     example: &'static str,
     sign: Sign,
     absolute_temperature: bool,
+    /// What the value is, where its dimension alone does not say it (a plain number).
+    name: Option<&'static str>,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -56,6 +61,7 @@ const fn kind(dimension: Dimension, example: &'static str, sign: Sign) -> Kind {
         example,
         sign,
         absolute_temperature: false,
+        name: None,
     }
 }
 
@@ -78,16 +84,64 @@ const ACTIVATION: Kind = kind(dim(2., 1., -2., 0., -1.), "75 kJ/mol", Sign::NonN
 const SPECIFIC_ENERGY: Kind = kind(dim(2., 0., -2., 0., 0.), "650 kJ/kg", Sign::Positive);
 const SPECIFIC_POWER: Kind = kind(dim(2., 0., -3., 0., 0.), "2.0 W/kg", Sign::Positive);
 const MOLAR_MASS: Kind = kind(dim(0., 1., 0., 0., -1.), "80.91 g/mol", Sign::Positive);
-const ORDER: Kind = kind(Dimension::NONE, "1", Sign::NonNegative);
+const ORDER: Kind = Kind {
+    name: Some("an order"),
+    ..kind(Dimension::NONE, "1", Sign::NonNegative)
+};
 const TEMPERATURE: Kind = Kind {
     dimension: dim(0., 0., 0., 1., 0.),
     example: "75 degC (or K, degF)",
     sign: Sign::Positive,
     absolute_temperature: true,
+    name: None,
 };
 
 /// The activation energies outside this range are questionable (kJ/mol).
 const PLAUSIBLE_ACTIVATION_KJ_MOL: (f64, f64) = (20.0, 400.0);
+
+/// Longest piece of the file quoted back in a message; longer text is cut with "…".
+const MAX_QUOTED_CHARS: usize = 60;
+
+/// `text` in double quotes, cut to `MAX_QUOTED_CHARS` characters.
+fn quoted(text: &str) -> String {
+    format!("\"{}\"", shortened(text))
+}
+
+/// `text` cut to `MAX_QUOTED_CHARS` characters, with "…" and the full length when cut.
+fn shortened(text: &str) -> String {
+    let count = text.chars().count();
+    if count <= MAX_QUOTED_CHARS {
+        return text.to_string();
+    }
+    let head: String = text.chars().take(MAX_QUOTED_CHARS).collect();
+    format!("{head}… ({count} characters)")
+}
+
+/// `message` with every quoted piece longer than `MAX_QUOTED_CHARS` cut (see `shortened`).
+fn shorten_quotes(message: &str) -> String {
+    message
+        .split('"')
+        .enumerate()
+        .map(|(i, piece)| {
+            if i % 2 == 1 {
+                shortened(piece)
+            } else {
+                piece.to_string()
+            }
+        })
+        .collect::<Vec<_>>()
+        .join("\"")
+}
+
+/// YAML reads these as floats that are not finite numbers (see `schema::Scalar`).
+fn yaml_non_finite(text: &str) -> Option<&'static str> {
+    match text {
+        ".nan" => Some("not-a-number"),
+        ".inf" => Some("infinity"),
+        "-.inf" => Some("minus infinity"),
+        _ => None,
+    }
+}
 
 /// Checks `raw` whole and returns the typed case, or every error found.
 pub fn validate(
@@ -104,7 +158,12 @@ pub fn validate(
     let case = checker.case(raw);
     match case {
         Some(case) if checker.errors.is_empty() => Ok(case),
-        _ => Err(checker.errors),
+        _ => {
+            // In the order of the file; a stable sort keeps the order of errors at one place.
+            let mut errors = checker.errors;
+            errors.sort_by_key(|e| e.position);
+            Err(errors)
+        }
     }
 }
 
@@ -117,17 +176,29 @@ struct Checker<'a> {
 
 impl Checker<'_> {
     fn error(&mut self, path: &str, message: impl Into<String>, accepted: impl Into<String>) {
-        self.errors.push(InputError {
-            file: self.file.to_string(),
-            position: self.positions.find(path),
-            path: path.to_string(),
-            message: message.into(),
-            accepted: accepted.into(),
-        });
+        let position = self.positions.find(path);
+        self.error_at(position, path, message, accepted);
     }
 
     fn warn(&mut self, code: &str, message: impl Into<String>) {
         self.warnings.push(Warning::new(code, message));
+    }
+
+    /// An error placed at a given position instead of the position of `path`.
+    fn error_at(
+        &mut self,
+        position: super::positions::Position,
+        path: &str,
+        message: impl Into<String>,
+        accepted: impl Into<String>,
+    ) {
+        self.errors.push(InputError {
+            file: self.file.to_string(),
+            position,
+            path: path.to_string(),
+            message: shorten_quotes(&message.into()),
+            accepted: accepted.into(),
+        });
     }
 
     fn required<'v, T: ?Sized>(
@@ -137,9 +208,92 @@ impl Checker<'_> {
         example: &str,
     ) -> Option<&'v T> {
         if value.is_none() {
-            self.error(path, "missing key", format!("{path}: {example}"));
+            self.missing(path, &format!("{path}: {example}"));
         }
         value
+    }
+
+    /// The text of a single value; a list, a mapping or a tagged value is an error.
+    fn single<'s>(&mut self, path: &str, scalar: &'s Scalar, example: &str) -> Option<&'s str> {
+        let found = match scalar.1 {
+            Shape::Single => return Some(&scalar.0),
+            Shape::List => "a list".to_string(),
+            Shape::Mapping => "a mapping".to_string(),
+            Shape::Tagged => format!("a value with the YAML tag {}", quoted(&scalar.0)),
+        };
+        self.error(
+            path,
+            format!("found {found} where a single value belongs"),
+            format!("a single value like \"{example}\""),
+        );
+        None
+    }
+
+    /// A required key that is not there, or is there without a value (YAML null).
+    fn missing(&mut self, path: &str, accepted: &str) {
+        let key = path.rsplit('.').next().unwrap_or(path);
+        match self.positions.key(path) {
+            Some(position) => self.error_at(
+                position,
+                path,
+                format!("the key \"{key}\" has no value (YAML reads an empty value as null)"),
+                accepted,
+            ),
+            None => {
+                let place = match path.rfind('.') {
+                    Some(cut) => format!("in {}", &path[..cut]),
+                    None => "at the top level".to_string(),
+                };
+                self.error(
+                    path,
+                    format!("the required key \"{key}\" is missing {place}"),
+                    accepted,
+                )
+            }
+        }
+    }
+
+    /// Reports each key of `unknown` as unknown in the section at `base`.
+    fn unknown_keys(&mut self, base: &str, unknown: &UnknownKeys, known: &[&str]) {
+        for key in &unknown.0 {
+            let path = if base.is_empty() {
+                key.clone()
+            } else {
+                format!("{base}.{key}")
+            };
+            let position = self
+                .positions
+                .key(&path)
+                .unwrap_or_else(|| self.positions.find(base));
+            let shown_path = if base.is_empty() {
+                shortened(key)
+            } else {
+                format!("{base}.{}", shortened(key))
+            };
+            let section = if base.is_empty() {
+                "the top level of a case".to_string()
+            } else {
+                base.to_string()
+            };
+            if key == "<<" {
+                self.error_at(
+                    position,
+                    &shown_path,
+                    "YAML merge keys (<<) are not supported in a case file",
+                    format!("the keys of {section} written out: {}; an alias (*name) may stand for a single value", known.join(", ")),
+                );
+                continue;
+            }
+            let hint = nearest_key(key, known)
+                .map(|k| format!("did you mean \"{k}\"? "))
+                .unwrap_or_default();
+            self.error_at(
+                position,
+                &shown_path,
+                format!("unknown key {} in {section}", quoted(key)),
+                format!("{hint}the keys of {section}: {}", known.join(", ")),
+            );
+        }
     }
 
     /// A required quantity, in SI.
@@ -163,12 +317,24 @@ impl Checker<'_> {
     }
 
     fn parse(&mut self, path: &str, scalar: &Scalar, kind: Kind) -> Option<f64> {
+        self.single(path, scalar, kind.example)?;
+        if let Some(what) = yaml_non_finite(&scalar.0) {
+            self.error(
+                path,
+                format!(
+                    "\"{}\" is YAML's {what}; only finite numbers are accepted",
+                    scalar.0
+                ),
+                format!("a value like \"{}\"", kind.example),
+            );
+            return None;
+        }
         let parsed = match parse_quantity(&scalar.0) {
             Ok(q) => q,
             Err(e) => {
                 self.error(
                     path,
-                    format!("\"{}\": {e}", scalar.0),
+                    format!("{}: {e}", quoted(&scalar.0)),
                     format!("a value like \"{}\"", kind.example),
                 );
                 return None;
@@ -176,20 +342,20 @@ impl Checker<'_> {
         };
         if !parsed.dimension.approx_eq(&kind.dimension) {
             let found = if parsed.unit_text.is_empty() {
-                "a bare number (no unit)".to_string()
+                "a bare number without a unit".to_string()
             } else {
                 format!(
-                    "the unit \"{}\" ({})",
-                    parsed.unit_text,
-                    parsed.dimension.describe()
+                    "the unit {} is {}",
+                    quoted(&parsed.unit_text),
+                    dimension_in_words(&parsed.dimension)
                 )
             };
             self.error(
                 path,
                 format!(
-                    "\"{}\": {found} does not fit this key ({})",
-                    scalar.0,
-                    kind.dimension.describe()
+                    "{}: {found}, but this key takes {}",
+                    quoted(&scalar.0),
+                    dimension_in_words(&kind.dimension)
                 ),
                 format!("a value like \"{}\"", kind.example),
             );
@@ -198,7 +364,7 @@ impl Checker<'_> {
         if parsed.affine && !kind.absolute_temperature {
             self.error(
                 path,
-                format!("\"{}\": degC and degF name absolute temperatures; a temperature difference takes K", scalar.0),
+                format!("{}: degC and degF name absolute temperatures; a temperature difference takes K", quoted(&scalar.0)),
                 "a difference in K, e.g. \"10 K\"",
             );
             return None;
@@ -215,16 +381,24 @@ impl Checker<'_> {
         if ok {
             return Some(value);
         }
-        let what = if kind.absolute_temperature {
-            "a temperature above absolute zero".to_string()
+        let (problem, what) = if kind.absolute_temperature {
+            (
+                "is at or below absolute zero (0 K, -273.15 degC)".to_string(),
+                "a temperature above absolute zero".to_string(),
+            )
         } else {
-            format!("a value {needed}, e.g. \"{}\"", kind.example)
+            let name = kind.name.unwrap_or_else(|| {
+                NAMED_DIMENSIONS
+                    .iter()
+                    .find(|(d, _)| d.approx_eq(&kind.dimension))
+                    .map_or("this value", |(_, name)| name)
+            });
+            (
+                format!("is not physically possible here: {name} must be {needed}"),
+                format!("a value {needed}, e.g. \"{}\"", kind.example),
+            )
         };
-        self.error(
-            path,
-            format!("\"{}\" is not physically possible here", scalar.0),
-            what,
-        );
+        self.error(path, format!("{} {problem}", quoted(&scalar.0)), what);
         None
     }
 
@@ -236,10 +410,10 @@ impl Checker<'_> {
         default: Option<&'w str>,
     ) -> Option<&'w str> {
         let text = match (value, default) {
-            (Some(scalar), _) => scalar.0.trim().to_string(),
+            (Some(scalar), _) => self.single(path, scalar, words[0])?.trim().to_string(),
             (None, Some(word)) => return Some(word),
             (None, None) => {
-                self.error(path, "missing key", format!("one of {}", words.join(", ")));
+                self.missing(path, &format!("one of {}", words.join(", ")));
                 return None;
             }
         };
@@ -247,14 +421,77 @@ impl Checker<'_> {
         if found.is_none() {
             self.error(
                 path,
-                format!("\"{text}\" is not a choice here"),
+                format!("{} is not a choice here", quoted(&text)),
                 format!("one of {}", words.join(", ")),
             );
         }
         found
     }
 
+    /// Unknown keys of every section, wherever they are.
+    fn all_unknown_keys(&mut self, raw: &RawCase) {
+        self.unknown_keys("", &raw.unknown, RawCase::KEYS);
+        for (name, species) in raw.species.iter().flatten() {
+            self.unknown_keys(
+                &format!("species.{name}"),
+                &species.unknown,
+                RawSpecies::KEYS,
+            );
+        }
+        if let Some(charge) = &raw.charge {
+            self.unknown_keys("charge", &charge.unknown, RawStream::KEYS);
+        }
+        if let Some(feed) = &raw.feed {
+            self.unknown_keys("feed", &feed.unknown, RawFeed::KEYS);
+        }
+        for (index, reaction) in raw.reactions.iter().flatten().enumerate() {
+            self.unknown_keys(
+                &format!("reactions[{index}]"),
+                &reaction.unknown,
+                RawReaction::KEYS,
+            );
+        }
+        let sections: [(&str, Option<&UnknownKeys>, &[&str]); 6] = [
+            (
+                "vessel",
+                raw.vessel.as_ref().map(|r| &r.unknown),
+                RawVessel::KEYS,
+            ),
+            (
+                "coolant",
+                raw.coolant.as_ref().map(|r| &r.unknown),
+                RawCoolant::KEYS,
+            ),
+            (
+                "process",
+                raw.process.as_ref().map(|r| &r.unknown),
+                RawProcess::KEYS,
+            ),
+            (
+                "failure",
+                raw.failure.as_ref().map(|r| &r.unknown),
+                RawFailure::KEYS,
+            ),
+            (
+                "decomposition",
+                raw.decomposition.as_ref().map(|r| &r.unknown),
+                RawDecomposition::KEYS,
+            ),
+            (
+                "limits",
+                raw.limits.as_ref().map(|r| &r.unknown),
+                RawLimits::KEYS,
+            ),
+        ];
+        for (base, unknown, known) in sections {
+            if let Some(unknown) = unknown {
+                self.unknown_keys(base, unknown, known);
+            }
+        }
+    }
+
     fn case(&mut self, raw: RawCase) -> Option<Case> {
+        self.all_unknown_keys(&raw);
         self.format(raw.format.as_ref());
         let title = self
             .required(
@@ -262,7 +499,8 @@ impl Checker<'_> {
                 raw.title.as_ref(),
                 "Side-chain bromination, 4 m3 vessel",
             )
-            .map(|s| s.0.clone());
+            .and_then(|s| self.single("title", s, "Side-chain bromination, 4 m3 vessel"))
+            .map(str::to_string);
         let species = self.species(raw.species.as_ref());
         let charge = self.charge(raw.charge.as_ref());
         let feed = raw.feed.as_ref().map(|f| self.feed(f));
@@ -274,9 +512,6 @@ impl Checker<'_> {
             coolant.and_then(|c| c.temperature.as_ref()),
             TEMPERATURE,
         );
-        if coolant.is_none() {
-            // The missing-key error above names coolant.temperature already.
-        }
         let process = raw.process.as_ref();
         let process_temperature = self.quantity(
             "process.temperature",
@@ -326,11 +561,17 @@ impl Checker<'_> {
     }
 
     fn format(&mut self, value: Option<&Scalar>) {
-        if let Some(scalar) = self.required("format", value, "1") {
-            if scalar.0.trim() != "1" {
+        let text = self
+            .required("format", value, "1")
+            .and_then(|scalar| self.single("format", scalar, "1"));
+        if let Some(text) = text {
+            if text.trim() != "1" {
                 self.error(
                     "format",
-                    format!("format \"{}\" is not known to this version", scalar.0),
+                    format!(
+                        "format {} is not known to this version of exoscreen",
+                        quoted(text)
+                    ),
                     "format: 1",
                 );
             }
@@ -339,7 +580,7 @@ impl Checker<'_> {
 
     fn species(
         &mut self,
-        raw: Option<&BTreeMap<String, super::schema::RawSpecies>>,
+        raw: Option<&BTreeMap<String, RawSpecies>>,
     ) -> Option<BTreeMap<String, SpeciesData>> {
         let mut out = BTreeMap::new();
         let mut ok = true;
@@ -355,11 +596,18 @@ impl Checker<'_> {
                 },
                 None => None,
             };
+            let gas = self.word(
+                &format!("{path}.gas"),
+                props.gas.as_ref(),
+                &["true", "false"],
+                Some("false"),
+            );
+            ok &= gas.is_some();
             out.insert(
                 name.clone(),
                 SpeciesData {
                     molar_mass,
-                    gas: props.gas.unwrap_or(false),
+                    gas: gas == Some("true"),
                 },
             );
         }
@@ -386,7 +634,12 @@ impl Checker<'_> {
     }
 
     fn charge(&mut self, raw: Option<&RawStream>) -> Option<Charge> {
-        let raw = self.required("charge", raw, "{ mass, specific_heat, density, amounts }");
+        // A missing section is one error, not one per key.
+        let raw = Some(self.required(
+            "charge",
+            raw,
+            "{ mass, specific_heat, density, amounts } (all four required)",
+        )?);
         let mass = self.quantity("charge.mass", raw.and_then(|r| r.mass.as_ref()), MASS);
         let cp = self.quantity(
             "charge.specific_heat",
@@ -482,10 +735,15 @@ impl Checker<'_> {
         let equation = equation?;
         let orders = self.orders(&base, &equation, raw.orders.as_ref())?;
         let overall_order: f64 = orders.values().sum();
+        let order_source = OrderSource {
+            base: &base,
+            orders: &orders,
+            written: raw.orders.is_some(),
+        };
         let rate_constant = self.rate_constant(
             &format!("{base}.rate_constant"),
             raw.rate_constant.as_ref(),
-            overall_order,
+            &order_source,
         );
         Some(Reaction {
             equation,
@@ -508,13 +766,29 @@ impl Checker<'_> {
     ) -> Option<Equation> {
         let path = format!("{base}.equation");
         let scalar = self.required(&path, raw, "A + B -> P + HBr")?;
-        let equation = match parse_equation(&scalar.0) {
+        let text = self.single(&path, scalar, "A + B -> P + HBr")?;
+        let equation = match parse_equation(text) {
             Ok(eq) => eq,
             Err(message) => {
                 self.error(&path, message, "an equation like \"2 A + B -> P + HBr\"");
                 return None;
             }
         };
+        if equation
+            .species()
+            .iter()
+            .all(|name| equation.net_coefficient(name).abs() < 1e-12)
+        {
+            self.error(
+                &path,
+                format!(
+                    "{} changes no amount: every species stands on both sides equally",
+                    quoted(&equation.text)
+                ),
+                "an equation that turns reactants into products, like \"A + B -> P\"",
+            );
+            return None;
+        }
         for term in &equation.reactants {
             if is_gas(&term.species) {
                 self.error(
@@ -571,36 +845,73 @@ impl Checker<'_> {
         ok.then_some(out)
     }
 
-    fn rate_constant(&mut self, path: &str, raw: Option<&Scalar>, order: f64) -> Option<f64> {
+    fn rate_constant(
+        &mut self,
+        path: &str,
+        raw: Option<&Scalar>,
+        source: &OrderSource,
+    ) -> Option<f64> {
+        let order: f64 = source.orders.values().sum();
         let needed = rate_constant_dimension(order);
         let example = rate_constant_example(order);
         let scalar = self.required(path, raw, &example)?;
+        self.single(path, scalar, &format!("3.0e-4 {example}"))?;
+        if let Some(what) = yaml_non_finite(&scalar.0) {
+            self.error(
+                path,
+                format!(
+                    "\"{}\" is YAML's {what}; only finite numbers are accepted",
+                    scalar.0
+                ),
+                format!("a value like \"3.0e-4 {example}\""),
+            );
+            return None;
+        }
         let parsed = match parse_quantity(&scalar.0) {
             Ok(q) => q,
             Err(e) => {
                 self.error(
                     path,
-                    format!("\"{}\": {e}", scalar.0),
+                    format!("{}: {e}", quoted(&scalar.0)),
                     format!("a value like \"3.0e-4 {example}\""),
                 );
                 return None;
             }
         };
         if !parsed.dimension.approx_eq(&needed) {
-            let implied = implied_order(&parsed.dimension)
-                .map(|n| format!(", a unit for overall order {n}"))
-                .unwrap_or_default();
+            let implied = match implied_order(&parsed.dimension) {
+                Some(n) => format!("is a unit for overall order {n}"),
+                None if parsed.unit_text.is_empty() => {
+                    "is a bare number; a rate constant needs a unit".to_string()
+                }
+                None => format!("({}) is no rate-constant unit", parsed.dimension.describe()),
+            };
+            let found = if parsed.unit_text.is_empty() {
+                String::new()
+            } else {
+                format!("the unit {} ", quoted(&parsed.unit_text))
+            };
             self.error(
                 path,
-                format!("\"{}\": the unit \"{}\"{implied} does not match the overall order {order} of the reaction (the sum of its orders)", scalar.0, parsed.unit_text),
-                format!("a unit like \"{example}\" for order {order}"),
+                format!(
+                    "{}: {found}{implied}, but the reaction's overall order is {order} ({})",
+                    quoted(&scalar.0),
+                    source.describe(order)
+                ),
+                format!(
+                    "a unit like \"{example}\" for order {order}, or {}.orders that sum to the order the unit is for",
+                    source.base
+                ),
             );
             return None;
         }
         if parsed.value_si <= 0.0 {
             self.error(
                 path,
-                format!("\"{}\": a rate constant must be more than zero", scalar.0),
+                format!(
+                    "{}: a rate constant must be more than zero",
+                    quoted(&scalar.0)
+                ),
                 format!("a value like \"3.0e-4 {example}\""),
             );
             return None;
@@ -620,11 +931,12 @@ impl Checker<'_> {
     }
 
     fn vessel(&mut self, raw: Option<&RawVessel>) -> Option<Vessel> {
-        let raw = self.required(
+        // A missing section is one error, not one per key.
+        let raw = Some(self.required(
             "vessel",
             raw,
-            "{ diameter, bottom, nominal_volume, jacket_height, heat_transfer_coefficient }",
-        );
+            "{ diameter, bottom, nominal_volume, jacket_height, heat_transfer_coefficient } (heat_capacity optional)",
+        )?);
         let diameter = self.quantity(
             "vessel.diameter",
             raw.and_then(|r| r.diameter.as_ref()),
@@ -667,7 +979,7 @@ impl Checker<'_> {
         })
     }
 
-    fn failure(&mut self, raw: Option<&super::schema::RawFailure>) -> Option<Failure> {
+    fn failure(&mut self, raw: Option<&RawFailure>) -> Option<Failure> {
         let dosing = self.word(
             "failure.dosing",
             raw.and_then(|r| r.dosing.as_ref()),
@@ -690,7 +1002,7 @@ impl Checker<'_> {
         })
     }
 
-    fn decomposition(&mut self, raw: &super::schema::RawDecomposition) -> Option<Decomposition> {
+    fn decomposition(&mut self, raw: &RawDecomposition) -> Option<Decomposition> {
         let energy = self.quantity("decomposition.energy", raw.energy.as_ref(), SPECIFIC_ENERGY);
         let rate = self.quantity(
             "decomposition.heat_release_rate",
@@ -721,12 +1033,117 @@ impl Checker<'_> {
     }
 }
 
+/// The known key closest to a misspelt one: same letters ignoring case, or at most two
+/// edits away (and fewer edits than half its length).
+fn nearest_key<'k>(key: &str, known: &[&'k str]) -> Option<&'k str> {
+    let key = key.to_lowercase();
+    if key.chars().count() > 64 {
+        return None;
+    }
+    known
+        .iter()
+        .map(|k| (edit_distance(&key, k), *k))
+        .filter(|(d, k)| *d <= 2 && 2 * d < k.len())
+        .min_by_key(|(d, _)| *d)
+        .map(|(_, k)| k)
+}
+
+/// Levenshtein distance over chars.
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut previous: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut current = vec![i + 1; b.len() + 1];
+        for (j, cb) in b.iter().enumerate() {
+            let substitution = previous[j] + usize::from(ca != *cb);
+            current[j + 1] = substitution.min(previous[j + 1] + 1).min(current[j] + 1);
+        }
+        previous = current;
+    }
+    previous[b.len()]
+}
+
 fn bottom_of(word: &str) -> Bottom {
     match word {
         "flat" => Bottom::Flat,
         "hemispherical" => Bottom::Hemispherical,
         "elliptical" => Bottom::Elliptical,
         _ => Bottom::Torispherical,
+    }
+}
+
+/// Names of the dimensions a case meets, for messages about a unit that does not fit.
+const NAMED_DIMENSIONS: [(Dimension, &str); 24] = [
+    (Dimension::NONE, "a plain number"),
+    (dim(0., 1., 0., 0., 0.), "a mass"),
+    (dim(1., 0., 0., 0., 0.), "a length"),
+    (dim(2., 0., 0., 0., 0.), "an area"),
+    (dim(3., 0., 0., 0., 0.), "a volume"),
+    (dim(0., 0., 1., 0., 0.), "a time"),
+    (dim(0., 0., -1., 0., 0.), "a rate per time"),
+    (dim(0., 0., 0., 1., 0.), "a temperature"),
+    (dim(0., 0., 0., 0., 1.), "an amount of substance"),
+    (dim(2., 1., -2., 0., 0.), "an energy"),
+    (
+        dim(2., 1., -2., 0., -1.),
+        "an energy per amount of substance",
+    ),
+    (dim(2., 0., -2., 0., 0.), "an energy per mass"),
+    (dim(2., 1., -3., 0., 0.), "a power"),
+    (dim(2., 0., -3., 0., 0.), "a power per mass"),
+    (dim(2., 0., -2., -1., 0.), "a heat capacity per mass"),
+    (dim(2., 1., -2., -1., 0.), "a heat capacity"),
+    (
+        dim(2., 1., -2., -1., -1.),
+        "a heat capacity per amount of substance",
+    ),
+    (dim(0., 1., -3., -1., 0.), "a heat-transfer coefficient"),
+    (dim(-3., 1., 0., 0., 0.), "a density"),
+    (dim(0., 1., 0., 0., -1.), "a molar mass"),
+    (dim(-1., 1., -2., 0., 0.), "a pressure"),
+    (dim(-3., 0., 0., 0., 1.), "a concentration"),
+    (dim(0., 1., -1., 0., 0.), "a mass flow"),
+    (dim(1., 1., -2., 0., 0.), "a force"),
+];
+
+/// "an energy per mass (m^2·s^-2)", or the base units alone for a dimension without a name.
+fn dimension_in_words(dimension: &Dimension) -> String {
+    let base = dimension.describe();
+    match NAMED_DIMENSIONS
+        .iter()
+        .find(|(d, _)| d.approx_eq(dimension))
+    {
+        Some((_, name)) if *dimension == Dimension::NONE => name.to_string(),
+        Some((_, name)) => format!("{name} ({base})"),
+        None => base,
+    }
+}
+
+/// Where a reaction's orders come from, for messages about its rate constant.
+struct OrderSource<'a> {
+    base: &'a str,
+    orders: &'a BTreeMap<String, f64>,
+    /// `orders` is written in the case (else: the reactants' coefficients).
+    written: bool,
+}
+
+impl OrderSource<'_> {
+    /// "the sum of reactions[0].orders: A 1 + B 1 = 2", or the equation's coefficients.
+    fn describe(&self, order: f64) -> String {
+        let terms: Vec<String> = self
+            .orders
+            .iter()
+            .map(|(name, n)| format!("{name} {n}"))
+            .collect();
+        let from = if self.written {
+            format!("{}.orders", self.base)
+        } else {
+            format!(
+                "the reactant coefficients of {}.equation, as {}.orders is not given",
+                self.base, self.base
+            )
+        };
+        format!("the sum of {from}: {} = {order}", terms.join(" + "))
     }
 }
 
@@ -869,9 +1286,37 @@ impl Checker<'_> {
 
     fn network_bounded(&mut self, case: &Case) {
         let network = Network::from_case(case);
-        if !releasable_heat_is_bounded(&network) {
-            self.error("reactions", "the releasable heat of the reaction network is unbounded (a cycle of exothermic reactions)", "a network in which no cycle of reactions releases heat");
+        if releasable_heat_is_bounded(&network) {
+            return;
         }
+        let cycle = unbounded_core(&network);
+        let named: Vec<String> = cycle
+            .iter()
+            .map(|&j| {
+                let r = &case.reactions[j];
+                format!(
+                    "reactions[{j}] ({}, enthalpy {} kJ/mol)",
+                    r.equation.text,
+                    r.enthalpy.get::<joule_per_mole>() / 1000.0
+                )
+            })
+            .collect();
+        let enthalpies: Vec<String> = cycle
+            .iter()
+            .map(|j| format!("reactions[{j}].enthalpy"))
+            .collect();
+        let first = cycle.first().copied().unwrap_or(0);
+        self.error(
+            &format!("reactions[{first}]"),
+            format!(
+                "{} form a cycle that releases heat each time round, so the releasable heat of the network has no bound",
+                named.join(" and ")
+            ),
+            format!(
+                "a network in which no cycle of reactions releases heat: check the signs of {}, or drop one of the reactions",
+                enthalpies.join(", ")
+            ),
+        );
     }
 
     fn temperature_order(&mut self, case: &Case) {
@@ -891,6 +1336,29 @@ impl Checker<'_> {
     }
 }
 
+/// The reactions of a smallest sub-network whose releasable heat is still unbounded (the
+/// cycle to name), found by dropping each reaction that is not needed for it.
+fn unbounded_core(network: &Network) -> Vec<usize> {
+    let mut kept: Vec<usize> = (0..network.reactions.len()).collect();
+    let mut index = 0;
+    while index < kept.len() {
+        let without: Vec<usize> = kept.iter().copied().filter(|&j| j != kept[index]).collect();
+        let sub = Network {
+            reactions: without
+                .iter()
+                .map(|&j| network.reactions[j].clone())
+                .collect(),
+            ..network.clone()
+        };
+        if releasable_heat_is_bounded(&sub) {
+            index += 1;
+        } else {
+            kept = without;
+        }
+    }
+    kept
+}
+
 fn final_liquid_volume(case: &Case) -> f64 {
     case.charge.volume_m3()
         + case
@@ -902,5 +1370,87 @@ fn final_liquid_volume(case: &Case) -> f64 {
 impl Charge {
     pub fn volume_m3(&self) -> f64 {
         (self.mass / self.density).get::<cubic_meter>()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::case::CaseError;
+    use crate::case::error::InputError;
+    use crate::case::load::load_case_text;
+
+    fn errors(text: &str) -> Vec<InputError> {
+        match load_case_text(text, "t.yaml") {
+            Err(CaseError::Invalid(errors)) => errors,
+            other => panic!("expected input errors, got {other:?}"),
+        }
+    }
+
+    fn error_at<'e>(errors: &'e [InputError], path: &str) -> &'e InputError {
+        errors
+            .iter()
+            .find(|e| e.path == path)
+            .unwrap_or_else(|| panic!("no error at {path}: {errors:?}"))
+    }
+
+    #[test]
+    fn a_list_where_a_value_belongs_is_one_error_among_the_others() {
+        let e = errors("format: 1\ncharge:\n  mass: [1, 2]\n  density: !kg 3\n");
+        let mass = error_at(&e, "charge.mass");
+        assert_eq!(mass.position.line, 3);
+        assert!(
+            mass.message
+                .contains("found a list where a single value belongs"),
+            "{mass}"
+        );
+        assert!(mass.accepted.contains("2400 kg"), "{mass}");
+        let density = error_at(&e, "charge.density");
+        assert!(density.message.contains("YAML tag \"!kg\""), "{density}");
+        error_at(&e, "title");
+    }
+
+    #[test]
+    fn errors_come_in_the_order_of_the_file() {
+        let e = errors("vessel:\n  bottom: conical\nformat: 3\n");
+        let lines: Vec<usize> = e.iter().map(|e| e.position.line).collect();
+        let mut sorted = lines.clone();
+        sorted.sort();
+        assert_eq!(lines, sorted);
+    }
+
+    #[test]
+    fn a_misspelt_key_gets_a_suggestion() {
+        let e = errors("format: 1\nvessel:\n  diamter: 1 m\n");
+        let typo = error_at(&e, "vessel.diamter");
+        assert!(
+            typo.accepted.starts_with("did you mean \"diameter\"?"),
+            "{typo}"
+        );
+        assert_eq!(super::nearest_key("zzzzzz", &["diameter"]), None);
+        assert_eq!(
+            super::nearest_key("Bottom", &["diameter", "bottom"]),
+            Some("bottom")
+        );
+    }
+
+    #[test]
+    fn long_quotes_are_cut() {
+        let long = "x".repeat(500);
+        let cut = super::shorten_quotes(&format!("a \"{long}\" b"));
+        assert!(cut.len() < 120, "{cut}");
+        assert!(cut.contains("(500 characters)"));
+        assert_eq!(super::shorten_quotes("\"short\" text"), "\"short\" text");
+    }
+
+    #[test]
+    fn dimensions_are_named() {
+        use crate::case::units::parse_quantity;
+        let d = parse_quantity("1 kJ/kg").unwrap().dimension;
+        assert_eq!(
+            super::dimension_in_words(&d),
+            "an energy per mass (m^2·s^-2)"
+        );
+        let odd = parse_quantity("1 kg^3").unwrap().dimension;
+        assert_eq!(super::dimension_in_words(&odd), "kg^3");
     }
 }
