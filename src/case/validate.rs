@@ -102,9 +102,9 @@ const PLAUSIBLE_ACTIVATION_KJ_MOL: (f64, f64) = (20.0, 400.0);
 /// Longest piece of the file quoted back in a message; longer text is cut with "…".
 const MAX_QUOTED_CHARS: usize = 60;
 
-/// `text` in double quotes, cut to `MAX_QUOTED_CHARS` characters.
+/// `text` in double quotes (cut later, with every quote of a message: `shorten_quotes`).
 fn quoted(text: &str) -> String {
-    format!("\"{}\"", shortened(text))
+    format!("\"{text}\"")
 }
 
 /// `text` cut to `MAX_QUOTED_CHARS` characters, with "…" and the full length when cut.
