@@ -696,7 +696,6 @@ fn the_five_orderings_give_the_five_classes() {
 /// reference's §2 table), Ea from 50 to 400 kJ/mol (the validator's plausible range is 20 to
 /// 400 kJ/mol, case-format.md).
 #[test]
-#[ignore = "model bug: TD24 is None for Ea above about 335 kJ/mol (Arrhenius underflow at the 50 K bisection bound)"]
 fn td24_exists_over_the_plausible_activation_range() {
     use exoscreen::model::plant::DecompositionLaw;
     let (cp, q_ref, t_ref): (f64, f64, f64) = (1800.0, 10.0, 150.0 + ZERO_C);

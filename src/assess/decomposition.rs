@@ -9,8 +9,17 @@ pub const SECONDS_PER_DAY: f64 = 86_400.0;
 
 /// TMRad(T) = cp R T^2 / (q(T, alpha = 0) Ea), s; cp in J/(kg K).
 pub fn tmr_ad(law: &DecompositionLaw, specific_heat: f64, temperature: f64) -> f64 {
-    specific_heat * GAS_CONSTANT * temperature * temperature
-        / (law.fresh_rate(temperature) * law.activation_energy)
+    ln_tmr_ad(law, specific_heat, temperature).exp()
+}
+
+/// ln TMRad, written out so that a rate far below the reference (a large Ea at a low T) does
+/// not underflow: ln(cp R T^2 / (q_ref Ea)) + (Ea/R)(1/T - 1/T_ref).
+fn ln_tmr_ad(law: &DecompositionLaw, specific_heat: f64, temperature: f64) -> f64 {
+    let prefactor = specific_heat * GAS_CONSTANT * temperature * temperature
+        / (law.q_ref * law.activation_energy);
+    prefactor.ln()
+        + (law.activation_energy / GAS_CONSTANT)
+            * (1.0 / temperature - 1.0 / law.reference_temperature)
 }
 
 /// The temperature (K) at which TMRad equals `time` (s), or None when there is none.
@@ -23,7 +32,7 @@ pub fn temperature_for_tmr(law: &DecompositionLaw, specific_heat: f64, time: f64
     }
     let turning = law.activation_energy / (2.0 * GAS_CONSTANT);
     let high = turning.min(5000.0);
-    let gap = |t: f64| (tmr_ad(law, specific_heat, t) / time).ln();
+    let gap = |t: f64| ln_tmr_ad(law, specific_heat, t) - time.ln();
     bisect(&gap, 50.0, high, 1e-9)
 }
 

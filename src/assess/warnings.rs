@@ -42,10 +42,17 @@ fn limits(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
         out.push(Warning::new("mtsr-above-mtt", format!("MTSR {:.1} degC reaches the MTT {:.1} degC: after a cooling failure the mass boils or the relief opens", c(f.mtsr), c(f.mtt))));
     }
     if f.worst.max_temperature > f.mtsr + 0.5 {
-        let has_gas = plant.network.gas.iter().zip(&plant.network.molar_mass).any(|(g, m)| *g && *m > 0.0);
+        let has_gas = plant
+            .network
+            .gas
+            .iter()
+            .zip(&plant.network.molar_mass)
+            .any(|(g, m)| *g && *m > 0.0);
         let why = match (plant.dosing_after_failure, has_gas) {
             (Dosing::Continues, _) => "because the feed goes on after the failure",
-            (Dosing::Stops, true) => "because the off-gas formed after the failure takes its heat capacity out of the vessel (MTSR divides by the heat capacity at the failure)",
+            (Dosing::Stops, true) => {
+                "because the off-gas formed after the failure takes its heat capacity out of the vessel (MTSR divides by the heat capacity at the failure)"
+            }
             (Dosing::Stops, false) => "",
         };
         out.push(Warning::new(
@@ -63,7 +70,7 @@ fn limits(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
             "tmrad-under-24h",
             format!("TMRad at MTSR is {:.1} h, under 24 h: a runaway of the decomposition can follow a cooling failure", tmr / 3600.0),
         )),
-        (None, Some(_)) => out.push(Warning::new("no-td24", "no TD24 could be found for the decomposition data (activation energy too small or data outside range)")),
+        (None, Some(_)) => out.push(Warning::new("no-td24", "no temperature was found at which TMRad equals 24 h (searched from 50 K up to Ea/(2R), where TMRad stops falling): check the decomposition data")),
         (_, None) => out.push(Warning::new(
             "no-decomposition-data",
             "no decomposition data (DSC/ARC): TMRad, TD24 and the criticality class cannot be given; this is not a finding of safety, obtain the data",
