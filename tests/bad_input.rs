@@ -24,6 +24,14 @@ const CORPUS: &[(&str, Expect)] = &[
         Errors(&[("charge.mass", 9, "a bare number without a unit")]),
     ),
     (
+        "colon-in-value.yaml",
+        Errors(&[("title", 3, "a value holding \": \" that needs quotes")]),
+    ),
+    (
+        "control-character.yaml",
+        Errors(&[("", 3, "the control character U+0007 stands here")]),
+    ),
+    (
         "duplicate-key.yaml",
         Errors(&[(
             "vessel.diameter",

@@ -28,6 +28,9 @@ pub fn load_case_text(text: &str, file: &str) -> Result<Case, CaseError> {
     if text.trim().is_empty() {
         return Err(whole_file_error(file, "the case file is empty"));
     }
+    if let Some(error) = control_character(text, file) {
+        return Err(CaseError::Invalid(vec![error]));
+    }
     let positions = PositionMap::of_document(text);
     if positions.broken_at().is_none() {
         document_errors(&positions, file).map_err(CaseError::Invalid)?;
@@ -59,6 +62,48 @@ fn read_text(path: &Path, file: &str) -> Result<String, CaseError> {
             ),
         )
     })
+}
+
+/// The first character YAML does not allow in a document (C0 controls other than tab,
+/// line feed and carriage return, and DEL), placed by line and column; libyaml names only
+/// a byte offset.
+fn control_character(text: &str, file: &str) -> Option<InputError> {
+    let (line_index, line) = text
+        .split('\n')
+        .enumerate()
+        .find(|(_, line)| line.chars().any(is_forbidden_control))?;
+    let (column_index, c) = line
+        .chars()
+        .enumerate()
+        .find(|(_, c)| is_forbidden_control(*c))?;
+    Some(input_error(
+        file,
+        Position {
+            line: line_index + 1,
+            column: column_index + 1,
+        },
+        "",
+        &format!(
+            "the control character U+{:04X} stands here; YAML does not allow it in a document",
+            u32::from(c)
+        ),
+        &format!(
+            "printable text: delete the character (an editor may show it as a box or as {})",
+            caret_notation(c)
+        ),
+    ))
+}
+
+/// `^A` for U+0001, `^?` for DEL.
+fn caret_notation(c: char) -> String {
+    match c {
+        '\u{7f}' => "^?".to_string(),
+        c => format!("^{}", char::from((c as u8) ^ 0x40)),
+    }
+}
+
+fn is_forbidden_control(c: char) -> bool {
+    (c.is_ascii_control() && !matches!(c, '\t' | '\n' | '\r')) || c == '\u{7f}'
 }
 
 fn input_error(
@@ -332,6 +377,11 @@ fn found_in_words(found: &str) -> String {
         "unit value" => "an empty value (null)".to_string(),
         "enum" => "a value with a YAML tag (!name)".to_string(),
         other => {
+            for kind in ["integer `", "floating point `", "boolean `"] {
+                if let Some(value) = other.strip_prefix(kind) {
+                    return format!("the value {}", shortened(value.trim_end_matches('`')));
+                }
+            }
             let other = other.replace('`', "\"");
             match other.strip_prefix("string ") {
                 Some(quoted) => format!("the text {}", shortened(quoted)),
@@ -511,6 +561,14 @@ mod tests {
         assert!(e.message.contains("closing }"), "{e}");
         let e = &errors("format: 1\ncharge:\n\tmass: 1 kg\n")[0];
         assert!(e.message.contains("tab"), "{e}");
+        let e = &errors("format: 1\ntitle: Step: two\n")[0];
+        assert_eq!(e.path, "title");
+        assert!(e.message.contains("needs quotes"), "{e}");
+        let e = &errors("format: 1\ntitle: a\x01b\n")[0];
+        assert_eq!(e.position, Position { line: 2, column: 9 });
+        assert!(e.message.contains("U+0001"), "{e}");
+        let e = &errors("format: 1\ncharge: 5\n")[0];
+        assert!(e.message.contains("found the value 5 where"), "{e}");
         let e = &errors("format: 1\ncharge:\n  mass: *m\n")[0];
         assert_eq!(e.path, "charge.mass");
         assert!(e.message.contains("alias \"*m\" names no anchor"), "{e}");

@@ -62,7 +62,10 @@ impl PositionMap {
         let mut parser = Parser::new_from_str(text);
         let broken_at = match parser.load(&mut walker, true) {
             Ok(()) => None,
-            Err(_) => Some(walker.open_path()),
+            Err(error) => {
+                let line = text.lines().nth(error.marker().line().saturating_sub(1));
+                Some(walker.open_path(line.and_then(leading_key)))
+            }
         };
         PositionMap {
             values: walker.values,
@@ -194,16 +197,27 @@ impl Walker {
         }
     }
 
-    /// The innermost open key path: the pending key if there is one, else the collection.
-    fn open_path(&self) -> String {
-        match self.stack.last() {
-            None => String::new(),
-            Some(Frame::Mapping {
-                path,
-                pending_key: Some(key),
-                ..
-            }) => join_key(path, key),
-            Some(frame) => frame.path().to_string(),
+    /// The innermost open key path: the pending key if there is one; else, in a block
+    /// mapping whose keys stand in the column of `line_key` (the key the broken line starts
+    /// with, and its column), that key; else the collection.
+    fn open_path(&self, line_key: Option<(&str, usize)>) -> String {
+        let line_key = line_key.and_then(|(key, column)| {
+            let path = self.stack.last()?.path();
+            let start = self.values.get(path)?;
+            (start.column == column).then_some(key)
+        });
+        match (self.stack.last(), line_key) {
+            (None, _) => String::new(),
+            (
+                Some(Frame::Mapping {
+                    path,
+                    pending_key: Some(key),
+                    ..
+                }),
+                _,
+            ) => join_key(path, key),
+            (Some(Frame::Mapping { path, .. }), Some(key)) => join_key(path, key),
+            (Some(frame), _) => frame.path().to_string(),
         }
     }
 
@@ -289,6 +303,18 @@ impl Walker {
     }
 }
 
+/// The plain key a line starts with and its column (`  title: x` -> `title`, 3).
+fn leading_key(line: &str) -> Option<(&str, usize)> {
+    let body = line.trim_start_matches(' ');
+    let end = body.find(':')?;
+    let key = &body[..end];
+    let plain = !key.is_empty()
+        && key
+            .chars()
+            .all(|c| c.is_alphanumeric() || c == '_' || c == '-');
+    plain.then_some((key, line.len() - body.len() + 1))
+}
+
 fn join_key(parent: &str, key: &str) -> String {
     if parent.is_empty() {
         key.to_string()
@@ -370,6 +396,8 @@ mod tests {
         let map = PositionMap::of_document("a: 1\nb: { c: 2\nd: 3\n");
         assert_eq!(map.find("a"), Position { line: 1, column: 4 });
         assert_eq!(map.broken_at(), Some("b"));
+        let colon = PositionMap::of_document("a: 1\ntitle: Step: two\n");
+        assert_eq!(colon.broken_at(), Some("title"));
         let empty = PositionMap::of_document("a: [1, 2\nb: {");
         assert_eq!(empty.find("zzz"), Position::START);
     }
