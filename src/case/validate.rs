@@ -241,7 +241,15 @@ impl Checker<'_> {
             ),
             None => {
                 let place = match path.rfind('.') {
-                    Some(cut) => format!("in {}", &path[..cut]),
+                    Some(cut) => {
+                        let parent = &path[..cut];
+                        let written = parent.ends_with(']') || self.positions.key(parent).is_some();
+                        if written {
+                            format!("in {parent}")
+                        } else {
+                            format!("(there is no {parent} section)")
+                        }
+                    }
                     None => "at the top level".to_string(),
                 };
                 self.error(
@@ -510,7 +518,10 @@ impl Checker<'_> {
         let coolant_temperature = self.quantity(
             "coolant.temperature",
             coolant.and_then(|c| c.temperature.as_ref()),
-            TEMPERATURE,
+            Kind {
+                example: "40 degC (or K, degF)",
+                ..TEMPERATURE
+            },
         );
         let process = raw.process.as_ref();
         let process_temperature = self.quantity(
@@ -531,7 +542,10 @@ impl Checker<'_> {
         let mtt = self.quantity(
             "limits.mtt",
             raw.limits.as_ref().and_then(|l| l.mtt.as_ref()),
-            TEMPERATURE,
+            Kind {
+                example: "132 degC (or K, degF)",
+                ..TEMPERATURE
+            },
         );
 
         let feed = match feed {
@@ -668,7 +682,14 @@ impl Checker<'_> {
             SPECIFIC_HEAT,
         );
         let density = self.quantity("feed.density", raw.density.as_ref(), DENSITY);
-        let temperature = self.quantity("feed.temperature", raw.temperature.as_ref(), TEMPERATURE);
+        let temperature = self.quantity(
+            "feed.temperature",
+            raw.temperature.as_ref(),
+            Kind {
+                example: "20 degC (or K, degF)",
+                ..TEMPERATURE
+            },
+        );
         let amounts = self.amounts("feed.amounts", raw.amounts.as_ref());
         let start = self.quantity_or("feed.start", raw.start.as_ref(), START_TIME, 0.0);
         let duration = self.quantity("feed.duration", raw.duration.as_ref(), DURATION);
@@ -1198,12 +1219,33 @@ impl Checker<'_> {
             .flat_map(|r| r.equation.reactants.iter().map(|t| t.species.as_str()))
             .collect();
         if let Some(feed) = &case.feed {
+            let mut distinct = reactants.clone();
+            distinct.sort_unstable();
+            distinct.dedup();
+            let equations: Vec<String> = case
+                .reactions
+                .iter()
+                .enumerate()
+                .take(3)
+                .map(|(j, r)| format!("reactions[{j}].equation \"{}\"", r.equation.text))
+                .collect();
+            let more = if case.reactions.len() > 3 {
+                ", ..."
+            } else {
+                ""
+            };
             for name in feed.amounts.keys() {
                 if !reactants.contains(&name.as_str()) {
                     self.error(
                         &format!("feed.amounts.{name}"),
-                        format!("the feed holds \"{name}\" but no reaction uses it as a reactant"),
-                        format!("a reactant of the reactions: {}", reactants.join(", ")),
+                        format!(
+                            "the feed holds \"{name}\", but no reaction uses it as a reactant ({}{more})",
+                            equations.join(", ")
+                        ),
+                        format!(
+                            "a reactant of the reactions ({}), or \"{name}\" among the reactants of an equation",
+                            distinct.join(", ")
+                        ),
                     );
                 }
             }
@@ -1407,6 +1449,19 @@ mod tests {
         let density = error_at(&e, "charge.density");
         assert!(density.message.contains("YAML tag \"!kg\""), "{density}");
         error_at(&e, "title");
+    }
+
+    #[test]
+    fn a_key_of_a_missing_section_says_the_section_is_missing() {
+        let e = errors("format: 1\nprocess:\n  duration: 8 h\n");
+        let mtt = error_at(&e, "limits.mtt");
+        assert!(
+            mtt.message.contains("(there is no limits section)"),
+            "{mtt}"
+        );
+        assert!(mtt.accepted.contains("132 degC"), "{mtt}");
+        let tp = error_at(&e, "process.temperature");
+        assert!(tp.message.contains("is missing in process"), "{tp}");
     }
 
     #[test]
