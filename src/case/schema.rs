@@ -169,227 +169,144 @@ impl<'de> Visitor<'de> for KeyTextVisitor {
 /// A map of species name to a scalar (amounts, orders).
 pub type ScalarMap = BTreeMap<String, Scalar>;
 
-#[derive(Debug, Deserialize)]
-pub struct RawCase {
-    pub format: Option<Scalar>,
-    pub title: Option<Scalar>,
-    pub species: Option<BTreeMap<String, RawSpecies>>,
-    pub charge: Option<RawStream>,
-    pub feed: Option<RawFeed>,
-    pub reactions: Option<Vec<RawReaction>>,
-    pub vessel: Option<RawVessel>,
-    pub coolant: Option<RawCoolant>,
-    pub process: Option<RawProcess>,
-    pub failure: Option<RawFailure>,
-    pub decomposition: Option<RawDecomposition>,
-    pub limits: Option<RawLimits>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawSpecies {
-    pub molar_mass: Option<Scalar>,
-    pub gas: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-/// The initial charge (all keys required).
-#[derive(Debug, Deserialize)]
-pub struct RawStream {
-    pub mass: Option<Scalar>,
-    pub specific_heat: Option<Scalar>,
-    pub density: Option<Scalar>,
-    pub amounts: Option<ScalarMap>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawFeed {
-    pub mass: Option<Scalar>,
-    pub specific_heat: Option<Scalar>,
-    pub density: Option<Scalar>,
-    pub temperature: Option<Scalar>,
-    pub amounts: Option<ScalarMap>,
-    pub start: Option<Scalar>,
-    pub duration: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawReaction {
-    pub equation: Option<Scalar>,
-    pub enthalpy: Option<Scalar>,
-    pub rate_constant: Option<Scalar>,
-    pub reference_temperature: Option<Scalar>,
-    pub activation_energy: Option<Scalar>,
-    pub orders: Option<ScalarMap>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawVessel {
-    pub diameter: Option<Scalar>,
-    pub bottom: Option<Scalar>,
-    pub nominal_volume: Option<Scalar>,
-    pub jacket_height: Option<Scalar>,
-    pub heat_transfer_coefficient: Option<Scalar>,
-    pub heat_capacity: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawCoolant {
-    pub temperature: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawProcess {
-    pub temperature: Option<Scalar>,
-    pub duration: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawFailure {
-    pub dosing: Option<Scalar>,
-    pub horizon: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawDecomposition {
-    pub energy: Option<Scalar>,
-    pub heat_release_rate: Option<Scalar>,
-    pub reference_temperature: Option<Scalar>,
-    pub activation_energy: Option<Scalar>,
-    pub order: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-#[derive(Debug, Deserialize)]
-pub struct RawLimits {
-    pub mtt: Option<Scalar>,
-    /// Keys this section does not have, in the order written.
-    #[serde(flatten)]
-    pub unknown: UnknownKeys,
-}
-
-/// The keys each section accepts, in the order the case reference lists them.
+/// The keys each section accepts, in the order of the struct (the case reference's order).
 pub trait Keys {
     const KEYS: &'static [&'static str];
 }
 
-impl Keys for RawCase {
-    const KEYS: &'static [&'static str] = &[
-        "format",
-        "title",
-        "species",
-        "charge",
-        "feed",
-        "reactions",
-        "vessel",
-        "coolant",
-        "process",
-        "failure",
-        "decomposition",
-        "limits",
-    ];
+/// A raw section: the struct as written, with `unknown` for the keys it does not have, and
+/// its `Keys` taken from the same field list, so that the two cannot drift apart.
+macro_rules! section {
+    (
+        $(#[$meta:meta])*
+        pub struct $name:ident {
+            $($(#[$field_meta:meta])* pub $field:ident : $ty:ty,)*
+        }
+    ) => {
+        $(#[$meta])*
+        #[derive(Debug, Deserialize)]
+        pub struct $name {
+            $($(#[$field_meta])* pub $field: $ty,)*
+            /// Keys this section does not have, in the order written.
+            #[serde(flatten)]
+            pub unknown: UnknownKeys,
+        }
+
+        impl Keys for $name {
+            const KEYS: &'static [&'static str] = &[$(stringify!($field)),*];
+        }
+    };
 }
 
-impl Keys for RawSpecies {
-    const KEYS: &'static [&'static str] = &["molar_mass", "gas"];
+section! {
+    pub struct RawCase {
+        pub format: Option<Scalar>,
+        pub title: Option<Scalar>,
+        pub species: Option<BTreeMap<String, RawSpecies>>,
+        pub charge: Option<RawStream>,
+        pub feed: Option<RawFeed>,
+        pub reactions: Option<Vec<RawReaction>>,
+        pub vessel: Option<RawVessel>,
+        pub coolant: Option<RawCoolant>,
+        pub process: Option<RawProcess>,
+        pub failure: Option<RawFailure>,
+        pub decomposition: Option<RawDecomposition>,
+        pub limits: Option<RawLimits>,
+    }
 }
 
-impl Keys for RawStream {
-    const KEYS: &'static [&'static str] = &["mass", "specific_heat", "density", "amounts"];
+section! {
+    pub struct RawSpecies {
+        pub molar_mass: Option<Scalar>,
+        pub gas: Option<Scalar>,
+    }
 }
 
-impl Keys for RawFeed {
-    const KEYS: &'static [&'static str] = &[
-        "mass",
-        "specific_heat",
-        "density",
-        "temperature",
-        "amounts",
-        "start",
-        "duration",
-    ];
+section! {
+    /// The initial charge (all keys required).
+    pub struct RawStream {
+        pub mass: Option<Scalar>,
+        pub specific_heat: Option<Scalar>,
+        pub density: Option<Scalar>,
+        pub amounts: Option<ScalarMap>,
+    }
 }
 
-impl Keys for RawReaction {
-    const KEYS: &'static [&'static str] = &[
-        "equation",
-        "enthalpy",
-        "rate_constant",
-        "reference_temperature",
-        "activation_energy",
-        "orders",
-    ];
+section! {
+    pub struct RawFeed {
+        pub mass: Option<Scalar>,
+        pub specific_heat: Option<Scalar>,
+        pub density: Option<Scalar>,
+        pub temperature: Option<Scalar>,
+        pub amounts: Option<ScalarMap>,
+        pub start: Option<Scalar>,
+        pub duration: Option<Scalar>,
+    }
 }
 
-impl Keys for RawVessel {
-    const KEYS: &'static [&'static str] = &[
-        "diameter",
-        "bottom",
-        "nominal_volume",
-        "jacket_height",
-        "heat_transfer_coefficient",
-        "heat_capacity",
-    ];
+section! {
+    pub struct RawReaction {
+        pub equation: Option<Scalar>,
+        pub enthalpy: Option<Scalar>,
+        pub rate_constant: Option<Scalar>,
+        pub reference_temperature: Option<Scalar>,
+        pub activation_energy: Option<Scalar>,
+        pub orders: Option<ScalarMap>,
+    }
 }
 
-impl Keys for RawCoolant {
-    const KEYS: &'static [&'static str] = &["temperature"];
+section! {
+    pub struct RawVessel {
+        pub diameter: Option<Scalar>,
+        pub bottom: Option<Scalar>,
+        pub nominal_volume: Option<Scalar>,
+        pub jacket_height: Option<Scalar>,
+        pub heat_transfer_coefficient: Option<Scalar>,
+        pub heat_capacity: Option<Scalar>,
+    }
 }
 
-impl Keys for RawProcess {
-    const KEYS: &'static [&'static str] = &["temperature", "duration"];
+section! {
+    pub struct RawCoolant {
+        pub temperature: Option<Scalar>,
+    }
 }
 
-impl Keys for RawFailure {
-    const KEYS: &'static [&'static str] = &["dosing", "horizon"];
+section! {
+    pub struct RawProcess {
+        pub temperature: Option<Scalar>,
+        pub duration: Option<Scalar>,
+    }
 }
 
-impl Keys for RawDecomposition {
-    const KEYS: &'static [&'static str] = &[
-        "energy",
-        "heat_release_rate",
-        "reference_temperature",
-        "activation_energy",
-        "order",
-    ];
+section! {
+    pub struct RawFailure {
+        pub dosing: Option<Scalar>,
+        pub horizon: Option<Scalar>,
+    }
 }
 
-impl Keys for RawLimits {
-    const KEYS: &'static [&'static str] = &["mtt"];
+section! {
+    pub struct RawDecomposition {
+        pub energy: Option<Scalar>,
+        pub heat_release_rate: Option<Scalar>,
+        pub reference_temperature: Option<Scalar>,
+        pub activation_energy: Option<Scalar>,
+        pub order: Option<Scalar>,
+    }
+}
+
+section! {
+    pub struct RawLimits {
+        pub mtt: Option<Scalar>,
+    }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
 
-    /// Every listed key is a field of its struct: writing it does not make it unknown.
+    /// Every listed key is read as its field (not collected as unknown).
     fn listed_keys_are_fields<T: Keys + for<'de> Deserialize<'de> + HasUnknown>() {
         for key in T::KEYS {
             let raw: T = serde_yaml::from_str(&format!("{key}: null\nzzz: 2\n"))
