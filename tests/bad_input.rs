@@ -191,7 +191,7 @@ const CORPUS: &[(&str, Expect)] = &[
     ("top-level-list.yaml", Errors(&[("", 1, "holds a list")])),
     (
         "two-documents.yaml",
-        Errors(&[("", 57, "a second YAML document starts here")]),
+        Errors(&[("", 57, "a second YAML document starts on this line")]),
     ),
     (
         "undefined-alias.yaml",

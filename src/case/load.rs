@@ -159,12 +159,17 @@ fn document_errors(positions: &PositionMap, file: &str) -> Result<(), Vec<InputE
         }
     }
     if let Some(position) = positions.second_document() {
+        // The line is right; the column of an implicit document start is not its own.
+        let position = Position {
+            column: 1,
+            ..position
+        };
         return Err(vec![input_error(
             file,
             position,
             "",
-            "a second YAML document starts here (\"---\"); a case file holds one document",
-            "one case per file: remove the \"---\" line and what follows, or split the file",
+            "a second YAML document starts on this line (after a \"---\" or \"...\" line); a case file holds one document",
+            "one case per file: remove the \"---\" or \"...\" line and what follows, or split the file",
         )]);
     }
     let duplicates: Vec<InputError> = positions
@@ -518,6 +523,8 @@ mod tests {
         let second = &errors("format: 1\n---\nformat: 1\n")[0];
         assert_eq!(second.position.line, 2);
         assert!(second.message.contains("second YAML document"));
+        let implicit = &errors("format: 1\n...\nformat: 2\n")[0];
+        assert_eq!(implicit.position, Position { line: 3, column: 1 });
     }
 
     #[test]
