@@ -10,9 +10,9 @@ use std::cell::RefCell;
 use std::time::Instant;
 
 /// Failure times of the coarse sweep over the feed window (ends included).
-pub const SWEEP_POINTS: usize = 13;
+pub const SWEEP_POINTS: usize = 11;
 /// Golden-section iterations in the best bracket: it shrinks by 0.618^n.
-pub const REFINE_ITERATIONS: usize = 14;
+pub const REFINE_ITERATIONS: usize = 12;
 
 /// The result: the worst failure time (s) and the maximum temperature it reaches (K).
 #[derive(Debug, Clone, Copy)]

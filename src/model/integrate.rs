@@ -155,20 +155,14 @@ where
         let Some(rule) = self.stop.as_mut() else {
             return false;
         };
-        let n = self.scale.len();
-        let x: Vec<f64> = y
-            .iter()
-            .take(n)
-            .zip(self.scale)
-            .map(|(v, s)| v * s)
-            .collect();
-        let dx: Vec<f64> = dy
-            .iter()
-            .take(n)
-            .zip(self.scale)
-            .map(|(v, s)| v * s)
-            .collect();
-        rule(t, &x, &dx)
+        let mut guard = self.scratch.borrow_mut();
+        let Scratch { x, dx, .. } = &mut *guard;
+        let scaled = y.iter().zip(dy.iter()).zip(self.scale);
+        for ((xi, di), ((yi, dyi), s)) in x.iter_mut().zip(dx.iter_mut()).zip(scaled) {
+            *xi = yi * s;
+            *di = dyi * s;
+        }
+        rule(t, x, dx)
     }
 }
 
