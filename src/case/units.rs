@@ -48,7 +48,7 @@ impl Dimension {
     const POWER: Dimension = Dimension::new(2.0, 1.0, -3.0, 0.0, 0.0);
     const PRESSURE: Dimension = Dimension::new(-1.0, 1.0, -2.0, 0.0, 0.0);
 
-    const fn new(length: f64, mass: f64, time: f64, temperature: f64, amount: f64) -> Self {
+    pub const fn new(length: f64, mass: f64, time: f64, temperature: f64, amount: f64) -> Self {
         Dimension {
             length,
             mass,

@@ -45,16 +45,6 @@ enum Sign {
     Positive,
 }
 
-const fn dim(length: f64, mass: f64, time: f64, temperature: f64, amount: f64) -> Dimension {
-    Dimension {
-        length,
-        mass,
-        time,
-        temperature,
-        amount,
-    }
-}
-
 const fn kind(dimension: Dimension, example: &'static str, sign: Sign) -> Kind {
     Kind {
         dimension,
@@ -65,31 +55,71 @@ const fn kind(dimension: Dimension, example: &'static str, sign: Sign) -> Kind {
     }
 }
 
-const MASS: Kind = kind(dim(0., 1., 0., 0., 0.), "2400 kg", Sign::Positive);
-const SPECIFIC_HEAT: Kind = kind(dim(2., 0., -2., -1., 0.), "1.75 kJ/(kg*K)", Sign::Positive);
-const DENSITY: Kind = kind(dim(-3., 1., 0., 0., 0.), "1050 kg/m^3", Sign::Positive);
-const AMOUNT: Kind = kind(dim(0., 0., 0., 0., 1.), "9.0 kmol", Sign::NonNegative);
-const DURATION: Kind = kind(dim(0., 0., 1., 0., 0.), "5 h", Sign::Positive);
-const START_TIME: Kind = kind(dim(0., 0., 1., 0., 0.), "0 h", Sign::NonNegative);
-const LENGTH: Kind = kind(dim(1., 0., 0., 0., 0.), "1.6 m", Sign::Positive);
-const VOLUME: Kind = kind(dim(3., 0., 0., 0., 0.), "4 m^3", Sign::Positive);
+const MASS: Kind = kind(
+    Dimension::new(0., 1., 0., 0., 0.),
+    "2400 kg",
+    Sign::Positive,
+);
+const SPECIFIC_HEAT: Kind = kind(
+    Dimension::new(2., 0., -2., -1., 0.),
+    "1.75 kJ/(kg*K)",
+    Sign::Positive,
+);
+const DENSITY: Kind = kind(
+    Dimension::new(-3., 1., 0., 0., 0.),
+    "1050 kg/m^3",
+    Sign::Positive,
+);
+const AMOUNT: Kind = kind(
+    Dimension::new(0., 0., 0., 0., 1.),
+    "9.0 kmol",
+    Sign::NonNegative,
+);
+const DURATION: Kind = kind(Dimension::new(0., 0., 1., 0., 0.), "5 h", Sign::Positive);
+const START_TIME: Kind = kind(Dimension::new(0., 0., 1., 0., 0.), "0 h", Sign::NonNegative);
+const LENGTH: Kind = kind(Dimension::new(1., 0., 0., 0., 0.), "1.6 m", Sign::Positive);
+const VOLUME: Kind = kind(Dimension::new(3., 0., 0., 0., 0.), "4 m^3", Sign::Positive);
 const HEAT_TRANSFER: Kind = kind(
-    dim(0., 1., -3., -1., 0.),
+    Dimension::new(0., 1., -3., -1., 0.),
     "280 W/(m^2*K)",
     Sign::NonNegative,
 );
-const HEAT_CAPACITY: Kind = kind(dim(2., 1., -2., -1., 0.), "0 kJ/K", Sign::NonNegative);
-const ENTHALPY: Kind = kind(dim(2., 1., -2., 0., -1.), "-95 kJ/mol", Sign::Any);
-const ACTIVATION: Kind = kind(dim(2., 1., -2., 0., -1.), "75 kJ/mol", Sign::NonNegative);
-const SPECIFIC_ENERGY: Kind = kind(dim(2., 0., -2., 0., 0.), "650 kJ/kg", Sign::Positive);
-const SPECIFIC_POWER: Kind = kind(dim(2., 0., -3., 0., 0.), "2.0 W/kg", Sign::Positive);
-const MOLAR_MASS: Kind = kind(dim(0., 1., 0., 0., -1.), "80.91 g/mol", Sign::Positive);
+const HEAT_CAPACITY: Kind = kind(
+    Dimension::new(2., 1., -2., -1., 0.),
+    "0 kJ/K",
+    Sign::NonNegative,
+);
+const ENTHALPY: Kind = kind(
+    Dimension::new(2., 1., -2., 0., -1.),
+    "-95 kJ/mol",
+    Sign::Any,
+);
+const ACTIVATION: Kind = kind(
+    Dimension::new(2., 1., -2., 0., -1.),
+    "75 kJ/mol",
+    Sign::NonNegative,
+);
+const SPECIFIC_ENERGY: Kind = kind(
+    Dimension::new(2., 0., -2., 0., 0.),
+    "650 kJ/kg",
+    Sign::Positive,
+);
+const SPECIFIC_POWER: Kind = kind(
+    Dimension::new(2., 0., -3., 0., 0.),
+    "2.0 W/kg",
+    Sign::Positive,
+);
+const MOLAR_MASS: Kind = kind(
+    Dimension::new(0., 1., 0., 0., -1.),
+    "80.91 g/mol",
+    Sign::Positive,
+);
 const ORDER: Kind = Kind {
     name: Some("an order"),
     ..kind(Dimension::NONE, "1", Sign::NonNegative)
 };
 const TEMPERATURE: Kind = Kind {
-    dimension: dim(0., 0., 0., 1., 0.),
+    dimension: Dimension::new(0., 0., 0., 1., 0.),
     example: "75 degC (or K, degF)",
     sign: Sign::Positive,
     absolute_temperature: true,
@@ -1096,35 +1126,41 @@ fn bottom_of(word: &str) -> Bottom {
 /// Names of the dimensions a case meets, for messages about a unit that does not fit.
 const NAMED_DIMENSIONS: [(Dimension, &str); 24] = [
     (Dimension::NONE, "a plain number"),
-    (dim(0., 1., 0., 0., 0.), "a mass"),
-    (dim(1., 0., 0., 0., 0.), "a length"),
-    (dim(2., 0., 0., 0., 0.), "an area"),
-    (dim(3., 0., 0., 0., 0.), "a volume"),
-    (dim(0., 0., 1., 0., 0.), "a time"),
-    (dim(0., 0., -1., 0., 0.), "a rate per time"),
-    (dim(0., 0., 0., 1., 0.), "a temperature"),
-    (dim(0., 0., 0., 0., 1.), "an amount of substance"),
-    (dim(2., 1., -2., 0., 0.), "an energy"),
+    (Dimension::new(0., 1., 0., 0., 0.), "a mass"),
+    (Dimension::new(1., 0., 0., 0., 0.), "a length"),
+    (Dimension::new(2., 0., 0., 0., 0.), "an area"),
+    (Dimension::new(3., 0., 0., 0., 0.), "a volume"),
+    (Dimension::new(0., 0., 1., 0., 0.), "a time"),
+    (Dimension::new(0., 0., -1., 0., 0.), "a rate per time"),
+    (Dimension::new(0., 0., 0., 1., 0.), "a temperature"),
+    (Dimension::new(0., 0., 0., 0., 1.), "an amount of substance"),
+    (Dimension::new(2., 1., -2., 0., 0.), "an energy"),
     (
-        dim(2., 1., -2., 0., -1.),
+        Dimension::new(2., 1., -2., 0., -1.),
         "an energy per amount of substance",
     ),
-    (dim(2., 0., -2., 0., 0.), "an energy per mass"),
-    (dim(2., 1., -3., 0., 0.), "a power"),
-    (dim(2., 0., -3., 0., 0.), "a power per mass"),
-    (dim(2., 0., -2., -1., 0.), "a heat capacity per mass"),
-    (dim(2., 1., -2., -1., 0.), "a heat capacity"),
+    (Dimension::new(2., 0., -2., 0., 0.), "an energy per mass"),
+    (Dimension::new(2., 1., -3., 0., 0.), "a power"),
+    (Dimension::new(2., 0., -3., 0., 0.), "a power per mass"),
     (
-        dim(2., 1., -2., -1., -1.),
+        Dimension::new(2., 0., -2., -1., 0.),
+        "a heat capacity per mass",
+    ),
+    (Dimension::new(2., 1., -2., -1., 0.), "a heat capacity"),
+    (
+        Dimension::new(2., 1., -2., -1., -1.),
         "a heat capacity per amount of substance",
     ),
-    (dim(0., 1., -3., -1., 0.), "a heat-transfer coefficient"),
-    (dim(-3., 1., 0., 0., 0.), "a density"),
-    (dim(0., 1., 0., 0., -1.), "a molar mass"),
-    (dim(-1., 1., -2., 0., 0.), "a pressure"),
-    (dim(-3., 0., 0., 0., 1.), "a concentration"),
-    (dim(0., 1., -1., 0., 0.), "a mass flow"),
-    (dim(1., 1., -2., 0., 0.), "a force"),
+    (
+        Dimension::new(0., 1., -3., -1., 0.),
+        "a heat-transfer coefficient",
+    ),
+    (Dimension::new(-3., 1., 0., 0., 0.), "a density"),
+    (Dimension::new(0., 1., 0., 0., -1.), "a molar mass"),
+    (Dimension::new(-1., 1., -2., 0., 0.), "a pressure"),
+    (Dimension::new(-3., 0., 0., 0., 1.), "a concentration"),
+    (Dimension::new(0., 1., -1., 0., 0.), "a mass flow"),
+    (Dimension::new(1., 1., -2., 0., 0.), "a force"),
 ];
 
 /// "an energy per mass (m^2·s^-2)", or the base units alone for a dimension without a name.
@@ -1170,7 +1206,7 @@ impl OrderSource<'_> {
 
 /// Dimension of a rate constant of overall order n: (m^3/mol)^(n-1) / s.
 fn rate_constant_dimension(order: f64) -> Dimension {
-    dim(3.0 * (order - 1.0), 0.0, -1.0, 0.0, -(order - 1.0))
+    Dimension::new(3.0 * (order - 1.0), 0.0, -1.0, 0.0, -(order - 1.0))
 }
 
 /// The overall order a rate-constant unit belongs to, if it is one.
