@@ -41,8 +41,11 @@ pub struct NormalFigures {
     pub peak_time: f64,
     /// U A(h) (T - T_coolant) at the moment of the peak.
     pub cooling_at_peak: f64,
-    /// U A(h) (Tp - T_coolant) at the moment of the peak: what the jacket can take at Tp.
+    /// U A(h) (Tp - T_cold) at the moment of the peak, T_cold the coldest the jacket can be:
+    /// what the jacket can take with the contents at Tp.
     pub cooling_capacity_at_tp: f64,
+    /// Peak off-gas rate of all gas species together, kg/s.
+    pub peak_off_gas: f64,
     pub final_decomposition_conversion: f64,
 }
 
@@ -120,6 +123,8 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
     let (phase, state) = run.state_at(peak_time);
     let at_peak = plant.snapshot(&phase, peak_time, &state);
     let (_, state_end) = run.state_at(end);
+    let off_gas = |phase: &Phase, t: f64, x: &[f64]| plant.snapshot(phase, t, x).off_gas_rate;
+    let (_, peak_off_gas) = run.maximum(0.0, end, &off_gas);
     NormalFigures {
         max_temperature,
         max_temperature_time,
@@ -128,7 +133,8 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
         cooling_at_peak: at_peak.cooling_power,
         cooling_capacity_at_tp: plant.u
             * at_peak.cooled_area
-            * (plant.process_temperature - plant.coolant_temperature),
+            * (plant.process_temperature - plant.coldest_coolant_temperature()),
+        peak_off_gas,
         final_decomposition_conversion: state_end[plant.layout().alpha()],
     }
 }

@@ -192,6 +192,11 @@ impl Plant {
         self.feed.as_ref().map_or(0.0, |f| f.end())
     }
 
+    /// The coldest the jacket can be: the coolant temperature (constant mode).
+    pub fn coldest_coolant_temperature(&self) -> f64 {
+        self.coolant_temperature
+    }
+
     /// How far the normal-operation reference run is followed: the process, and the whole feed.
     pub fn normal_horizon(&self) -> f64 {
         self.process_duration.max(self.feed_end())
