@@ -278,15 +278,21 @@ fn isothermal_second_order_batch_follows_hyperbola() {
         .samples()
         .map(|s| (s.time, amount(&plant, s.state, "A")))
         .collect();
-    for t in [300.0, 900.0, 1800.0, 3600.0, 5400.0, 7200.0] {
-        points.push((t, amount(&plant, &run.state_at(t).1, "A")));
-    }
-    let worst = points
-        .iter()
-        .map(|(t, n)| ((n / 1000.0) * (1.0 + kc0 * t) - 1.0).abs())
-        .fold(0.0, f64::max);
+    let error = |(t, n): &(f64, f64)| ((n / 1000.0) * (1.0 + kc0 * t) - 1.0).abs();
+    let worst = points.iter().map(error).fold(0.0, f64::max);
     println!("second order: max relative error of n_A/n_A0 against 1/(1 + k c0 t): {worst:.3e}");
     assert!(worst < 1e-7, "relative error {worst}");
+    // Between accepted steps the state comes from cubic Hermite interpolation, one order
+    // below the solver: 1e-6 relative there.
+    let between: Vec<(f64, f64)> = [300.0, 900.0, 1800.0, 3600.0, 5400.0, 7200.0]
+        .iter()
+        .map(|t| (*t, amount(&plant, &run.state_at(*t).1, "A")))
+        .collect();
+    let worst_between = between.iter().map(error).fold(0.0, f64::max);
+    assert!(
+        worst_between < 1e-6,
+        "interpolated: relative error {worst_between}"
+    );
 }
 
 // ---------------------------------------------------------------------------------------------

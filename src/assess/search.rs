@@ -38,13 +38,26 @@ pub fn max_temperature_after_failure(
     Ok(run.maximum(t_f, run.end_time(), &temperature).1)
 }
 
+/// The worst failure time and its temperature. The contract's simulated MTSR: decomposition
+/// off and no boiling barrier (the synthesis reaction's own reach), whatever the case adds.
 pub fn worst_failure(
     plant: &Plant,
     normal: &Trajectory,
     deadline: Option<Instant>,
 ) -> Result<WorstFailure, ScenarioError> {
+    let without_boiling;
+    let plant = match plant.boiling {
+        Some(_) => {
+            without_boiling = Plant {
+                boiling: None,
+                ..plant.clone()
+            };
+            &without_boiling
+        }
+        None => plant,
+    };
     let (start, end) = match &plant.feed {
-        Some(feed) => (feed.start, feed.end().min(normal.end_time())),
+        Some(feed) => (feed.start, normal.feed_end().unwrap_or(feed.end())),
         None => (0.0, 0.0),
     };
     if end <= start {

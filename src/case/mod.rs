@@ -18,8 +18,8 @@ use equation::Equation;
 use std::collections::BTreeMap;
 use uom::si::f64::{
     AmountOfSubstance, AvailableEnergy, HeatCapacity, HeatTransfer, Length, Mass, MassDensity,
-    MolarEnergy, MolarMass, SpecificHeatCapacity, SpecificPower, ThermodynamicTemperature, Time,
-    Volume,
+    MassRate, MolarEnergy, MolarMass, Power, SpecificHeatCapacity, SpecificPower,
+    TemperatureInterval, ThermodynamicTemperature, Time, Volume,
 };
 
 /// A checked case, ready for the model.
@@ -37,6 +37,12 @@ pub struct Case {
     pub failure: Failure,
     pub decomposition: Option<Decomposition>,
     pub mtt: ThermodynamicTemperature,
+    /// `coolant.control: hold`: the jacket temperature follows what holds Tp.
+    pub jacket_control: Option<JacketControl>,
+    /// The boiling barrier after a cooling failure (`solvent`, `condenser`).
+    pub solvent: Option<Solvent>,
+    pub condenser: Option<Condenser>,
+    pub limit_settings: LimitSettings,
     /// Questionable but possible inputs, found while checking the case.
     pub input_warnings: Vec<Warning>,
 }
@@ -104,7 +110,42 @@ pub enum Dosing {
 pub struct Failure {
     pub dosing: Dosing,
     pub horizon: Time,
+    /// Dosing interlock: the feed stops whenever T is above this.
+    pub stop_above: Option<ThermodynamicTemperature>,
 }
+
+/// A jacket whose temperature is adjusted to hold Tp within [minimum, maximum], following
+/// its set value with a first-order lag (`time_constant`, zero for an ideal jacket).
+#[derive(Debug, Clone)]
+pub struct JacketControl {
+    pub minimum: ThermodynamicTemperature,
+    pub maximum: ThermodynamicTemperature,
+    pub time_constant: Time,
+}
+
+#[derive(Debug, Clone)]
+pub struct Solvent {
+    pub boiling_point: ThermodynamicTemperature,
+    pub heat_of_vaporisation: MolarEnergy,
+    pub molar_mass: MolarMass,
+}
+
+#[derive(Debug, Clone)]
+pub struct Condenser {
+    pub capacity: Power,
+}
+
+/// Settings of the dosing-limit criteria (`limits`).
+#[derive(Debug, Clone)]
+pub struct LimitSettings {
+    /// Share of the jacket's capacity at Tp the peak reaction power may use (common practice 0.8).
+    pub cooling_use: f64,
+    pub mtsr_margin: TemperatureInterval,
+    pub off_gas_capacity: Option<MassRate>,
+}
+
+/// Common-practice margin on the jacket's capacity.
+pub const DEFAULT_COOLING_USE: f64 = 0.8;
 
 #[derive(Debug, Clone)]
 pub struct Decomposition {

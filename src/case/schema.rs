@@ -212,6 +212,8 @@ section! {
         pub failure: Option<RawFailure>,
         pub decomposition: Option<RawDecomposition>,
         pub limits: Option<RawLimits>,
+        pub solvent: Option<RawSolvent>,
+        pub condenser: Option<RawCondenser>,
     }
 }
 
@@ -269,6 +271,10 @@ section! {
 section! {
     pub struct RawCoolant {
         pub temperature: Option<Scalar>,
+        pub control: Option<Scalar>,
+        pub minimum: Option<Scalar>,
+        pub maximum: Option<Scalar>,
+        pub time_constant: Option<Scalar>,
     }
 }
 
@@ -283,6 +289,7 @@ section! {
     pub struct RawFailure {
         pub dosing: Option<Scalar>,
         pub horizon: Option<Scalar>,
+        pub stop_above: Option<Scalar>,
     }
 }
 
@@ -299,6 +306,24 @@ section! {
 section! {
     pub struct RawLimits {
         pub mtt: Option<Scalar>,
+        pub cooling_use: Option<Scalar>,
+        pub mtsr_margin: Option<Scalar>,
+        pub off_gas_capacity: Option<Scalar>,
+    }
+}
+
+section! {
+    /// The boiling barrier: the solvent that boils at the MTT after a cooling failure.
+    pub struct RawSolvent {
+        pub boiling_point: Option<Scalar>,
+        pub heat_of_vaporisation: Option<Scalar>,
+        pub molar_mass: Option<Scalar>,
+    }
+}
+
+section! {
+    pub struct RawCondenser {
+        pub capacity: Option<Scalar>,
     }
 }
 
@@ -338,7 +363,9 @@ mod tests {
         RawProcess,
         RawFailure,
         RawDecomposition,
-        RawLimits
+        RawLimits,
+        RawSolvent,
+        RawCondenser
     );
 
     #[test]
@@ -352,6 +379,8 @@ mod tests {
         listed_keys_are_fields::<RawDecomposition>();
         listed_keys_are_fields::<RawLimits>();
         listed_keys_are_fields::<RawVessel>();
+        listed_keys_are_fields::<RawSolvent>();
+        listed_keys_are_fields::<RawCondenser>();
     }
 
     #[test]

@@ -5,13 +5,14 @@ use super::equation::{Equation, parse_equation};
 use super::error::InputError;
 use super::positions::PositionMap;
 use super::schema::{
-    Keys, RawCase, RawCoolant, RawDecomposition, RawFailure, RawFeed, RawLimits, RawProcess,
-    RawReaction, RawSpecies, RawStream, RawVessel, Scalar, ScalarMap, Shape, UnknownKeys,
+    Keys, RawCase, RawCondenser, RawCoolant, RawDecomposition, RawFailure, RawFeed, RawLimits,
+    RawProcess, RawReaction, RawSolvent, RawSpecies, RawStream, RawVessel, Scalar, ScalarMap,
+    Shape, UnknownKeys,
 };
 use super::units::{Dimension, parse_quantity};
 use super::{
-    Bottom, Case, Charge, Decomposition, Dosing, Failure, Feed, RateConstant, Reaction,
-    SpeciesData, Vessel,
+    Bottom, Case, Charge, Condenser, DEFAULT_COOLING_USE, Decomposition, Dosing, Failure, Feed,
+    JacketControl, LimitSettings, RateConstant, Reaction, Solvent, SpeciesData, Vessel,
 };
 use crate::model::network::{Network, releasable_heat_is_bounded};
 use crate::model::vessel::VesselGeometry;
@@ -21,10 +22,10 @@ use uom::si::f64::*;
 use uom::si::{
     amount_of_substance::mole, available_energy::joule_per_kilogram,
     heat_capacity::joule_per_kelvin, heat_transfer::watt_per_square_meter_kelvin, length::meter,
-    mass::kilogram, mass_density::kilogram_per_cubic_meter, molar_energy::joule_per_mole,
-    molar_mass::kilogram_per_mole, specific_heat_capacity::joule_per_kilogram_kelvin,
-    specific_power::watt_per_kilogram, thermodynamic_temperature::kelvin, time::second,
-    volume::cubic_meter,
+    mass::kilogram, mass_density::kilogram_per_cubic_meter, mass_rate::kilogram_per_second,
+    molar_energy::joule_per_mole, molar_mass::kilogram_per_mole, power::watt,
+    specific_heat_capacity::joule_per_kilogram_kelvin, specific_power::watt_per_kilogram,
+    temperature_interval, thermodynamic_temperature::kelvin, time::second, volume::cubic_meter,
 };
 
 /// What a key holds: its dimension, an example unit and the values that make sense.
@@ -125,6 +126,30 @@ const TEMPERATURE: Kind = Kind {
     absolute_temperature: true,
     name: None,
 };
+
+const TEMPERATURE_DIFFERENCE: Kind =
+    kind(Dimension::new(0., 0., 0., 1., 0.), "5 K", Sign::NonNegative);
+const TIME_CONSTANT: Kind = kind(
+    Dimension::new(0., 0., 1., 0., 0.),
+    "5 min",
+    Sign::NonNegative,
+);
+const FRACTION: Kind = kind(Dimension::NONE, "0.8", Sign::Positive);
+const MASS_RATE: Kind = kind(
+    Dimension::new(0., 1., -1., 0., 0.),
+    "60 kg/h",
+    Sign::Positive,
+);
+const POWER: Kind = kind(
+    Dimension::new(2., 1., -3., 0., 0.),
+    "250 kW",
+    Sign::Positive,
+);
+const HEAT_OF_VAPORISATION: Kind = kind(
+    Dimension::new(2., 1., -2., 0., -1.),
+    "36.5 kJ/mol",
+    Sign::Positive,
+);
 
 /// The activation energies outside this range are questionable (kJ/mol).
 const PLAUSIBLE_ACTIVATION_KJ_MOL: (f64, f64) = (20.0, 400.0);
@@ -489,7 +514,17 @@ impl Checker<'_> {
                 RawReaction::KEYS,
             );
         }
-        let sections: [(&str, Option<&UnknownKeys>, &[&str]); 6] = [
+        let sections: [(&str, Option<&UnknownKeys>, &[&str]); 8] = [
+            (
+                "solvent",
+                raw.solvent.as_ref().map(|r| &r.unknown),
+                RawSolvent::KEYS,
+            ),
+            (
+                "condenser",
+                raw.condenser.as_ref().map(|r| &r.unknown),
+                RawCondenser::KEYS,
+            ),
             (
                 "vessel",
                 raw.vessel.as_ref().map(|r| &r.unknown),
@@ -544,15 +579,7 @@ impl Checker<'_> {
         let feed = raw.feed.as_ref().map(|f| self.feed(f));
         let reactions = self.reactions(raw.reactions.as_deref(), &species);
         let vessel = self.vessel(raw.vessel.as_ref());
-        let coolant = raw.coolant.as_ref();
-        let coolant_temperature = self.quantity(
-            "coolant.temperature",
-            coolant.and_then(|c| c.temperature.as_ref()),
-            Kind {
-                example: "40 degC (or K, degF)",
-                ..TEMPERATURE
-            },
-        );
+        let (coolant_temperature, jacket_control) = self.coolant(raw.coolant.as_ref());
         let process = raw.process.as_ref();
         let process_temperature = self.quantity(
             "process.temperature",
@@ -569,6 +596,9 @@ impl Checker<'_> {
             .decomposition
             .as_ref()
             .and_then(|d| self.decomposition(d));
+        let limit_settings = self.limit_settings(raw.limits.as_ref());
+        let solvent = raw.solvent.as_ref().and_then(|r| self.solvent(r));
+        let condenser = raw.condenser.as_ref().and_then(|r| self.condenser(r));
         let mtt = self.quantity(
             "limits.mtt",
             raw.limits.as_ref().and_then(|l| l.mtt.as_ref()),
@@ -591,6 +621,16 @@ impl Checker<'_> {
             reactions: reactions?,
             vessel: vessel?,
             coolant_temperature: ThermodynamicTemperature::new::<kelvin>(coolant_temperature?),
+            jacket_control: jacket_control?,
+            solvent: match (raw.solvent.is_some(), solvent) {
+                (true, None) => return None,
+                (_, found) => found,
+            },
+            condenser: match (raw.condenser.is_some(), condenser) {
+                (true, None) => return None,
+                (_, found) => found,
+            },
+            limit_settings: limit_settings?,
             process_temperature: ThermodynamicTemperature::new::<kelvin>(process_temperature?),
             process_duration: Time::new::<second>(process_duration?),
             failure: failure?,
@@ -1050,6 +1090,165 @@ impl Checker<'_> {
                 Dosing::Continues
             },
             horizon: Time::new::<second>(horizon?),
+            stop_above: match raw.and_then(|r| r.stop_above.as_ref()) {
+                Some(scalar) => Some(ThermodynamicTemperature::new::<kelvin>(self.parse(
+                    "failure.stop_above",
+                    scalar,
+                    Kind {
+                        example: "90 degC",
+                        ..TEMPERATURE
+                    },
+                )?)),
+                None => None,
+            },
+        })
+    }
+
+    /// The coolant: a constant temperature, or `control: hold` with its range and lag.
+    /// Returns (coolant or initial jacket temperature, K; the control if any).
+    fn coolant(
+        &mut self,
+        raw: Option<&RawCoolant>,
+    ) -> (Option<f64>, Option<Option<JacketControl>>) {
+        let control = self.word(
+            "coolant.control",
+            raw.and_then(|r| r.control.as_ref()),
+            &["constant", "hold"],
+            Some("constant"),
+        );
+        let temperature_kind = Kind {
+            example: "40 degC (or K, degF)",
+            ..TEMPERATURE
+        };
+        let temperature_raw = raw.and_then(|c| c.temperature.as_ref());
+        if control != Some("hold") {
+            for key in ["minimum", "maximum", "time_constant"] {
+                let given = raw.is_some_and(|r| match key {
+                    "minimum" => r.minimum.is_some(),
+                    "maximum" => r.maximum.is_some(),
+                    _ => r.time_constant.is_some(),
+                });
+                if given && control.is_some() {
+                    self.warn(
+                        "coolant-key-unused",
+                        format!("coolant.{key} is used only with coolant.control: hold"),
+                    );
+                }
+            }
+            let temperature =
+                self.quantity("coolant.temperature", temperature_raw, temperature_kind);
+            return (temperature, control.map(|_| None));
+        }
+        let minimum = self.quantity(
+            "coolant.minimum",
+            raw.and_then(|r| r.minimum.as_ref()),
+            Kind {
+                example: "-10 degC",
+                ..TEMPERATURE
+            },
+        );
+        let maximum = self.quantity(
+            "coolant.maximum",
+            raw.and_then(|r| r.maximum.as_ref()),
+            Kind {
+                example: "140 degC",
+                ..TEMPERATURE
+            },
+        );
+        let lag = self.quantity_or(
+            "coolant.time_constant",
+            raw.and_then(|r| r.time_constant.as_ref()),
+            TIME_CONSTANT,
+            0.0,
+        );
+        let initial = match temperature_raw {
+            Some(scalar) => self.parse("coolant.temperature", scalar, temperature_kind),
+            None => Some(f64::NAN),
+        };
+        if let (Some(low), Some(high)) = (minimum, maximum) {
+            if low >= high {
+                self.error("coolant.minimum", format!("the coolant minimum {:.2} degC is not below the maximum {:.2} degC (coolant.maximum)", low - 273.15, high - 273.15), "a minimum below coolant.maximum");
+                return (initial, None);
+            }
+        }
+        let control = match (minimum, maximum, lag) {
+            (Some(minimum), Some(maximum), Some(lag)) => Some(Some(JacketControl {
+                minimum: ThermodynamicTemperature::new::<kelvin>(minimum),
+                maximum: ThermodynamicTemperature::new::<kelvin>(maximum),
+                time_constant: Time::new::<second>(lag),
+            })),
+            _ => None,
+        };
+        (initial, control)
+    }
+
+    fn limit_settings(&mut self, raw: Option<&RawLimits>) -> Option<LimitSettings> {
+        let cooling_use = self.quantity_or(
+            "limits.cooling_use",
+            raw.and_then(|r| r.cooling_use.as_ref()),
+            FRACTION,
+            DEFAULT_COOLING_USE,
+        );
+        if cooling_use.is_some_and(|u| u > 1.0) {
+            self.warn(
+                "cooling-use-above-one",
+                "limits.cooling_use above 1 allows more heat than the jacket can remove at Tp",
+            );
+        }
+        let margin = self.quantity_or(
+            "limits.mtsr_margin",
+            raw.and_then(|r| r.mtsr_margin.as_ref()),
+            TEMPERATURE_DIFFERENCE,
+            0.0,
+        );
+        let off_gas = match raw.and_then(|r| r.off_gas_capacity.as_ref()) {
+            Some(scalar) => Some(Some(MassRate::new::<kilogram_per_second>(self.parse(
+                "limits.off_gas_capacity",
+                scalar,
+                MASS_RATE,
+            )?))),
+            None => Some(None),
+        };
+        Some(LimitSettings {
+            cooling_use: cooling_use?,
+            mtsr_margin: TemperatureInterval::new::<temperature_interval::kelvin>(margin?),
+            off_gas_capacity: off_gas?,
+        })
+    }
+
+    fn solvent(&mut self, raw: &RawSolvent) -> Option<Solvent> {
+        let boiling = self.quantity(
+            "solvent.boiling_point",
+            raw.boiling_point.as_ref(),
+            Kind {
+                example: "132 degC",
+                ..TEMPERATURE
+            },
+        );
+        let heat = self.quantity(
+            "solvent.heat_of_vaporisation",
+            raw.heat_of_vaporisation.as_ref(),
+            HEAT_OF_VAPORISATION,
+        );
+        let molar_mass = self.quantity(
+            "solvent.molar_mass",
+            raw.molar_mass.as_ref(),
+            Kind {
+                example: "112.6 g/mol",
+                ..MOLAR_MASS
+            },
+        );
+        Some(Solvent {
+            boiling_point: ThermodynamicTemperature::new::<kelvin>(boiling?),
+            heat_of_vaporisation: MolarEnergy::new::<joule_per_mole>(heat?),
+            molar_mass: MolarMass::new::<kilogram_per_mole>(molar_mass?),
+        })
+    }
+
+    fn condenser(&mut self, raw: &RawCondenser) -> Option<Condenser> {
+        let capacity = self.quantity("condenser.capacity", raw.capacity.as_ref(), POWER);
+        Some(Condenser {
+            capacity: Power::new::<watt>(capacity?),
         })
     }
 

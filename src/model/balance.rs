@@ -1,7 +1,10 @@
 //! The heat and mass balance of the stirred contents: state layout, the right-hand side of
 //! the ODE system, and the derived quantities (volume, area, powers) at any state.
 
-use super::plant::Plant;
+use super::plant::{Jacket, Plant};
+
+/// Time over which the held jacket brings T back to Tp, s (with an ideal jacket).
+const HOLD_CORRECTION_TIME: f64 = 60.0;
 
 /// What is switched on over one stretch of time between discontinuities.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -12,6 +15,29 @@ pub struct Phase {
     /// Start of the stretch, s, and the mass fed by then, kg.
     pub t_start: f64,
     pub fed_at_start: f64,
+    /// The dosing interlock holds the feed (T went above its set point).
+    pub feed_interlocked: bool,
+    /// Time the feed has been held by the interlock before this stretch, s (it moves the
+    /// planned end of the feed later by as much).
+    pub feed_delay: f64,
+    /// The contents boil at the solvent's boiling point: T stays, the excess heat evaporates.
+    pub boiling: bool,
+}
+
+impl Phase {
+    /// The phase at the start of a run: feed as given, cooling on, decomposition as given.
+    pub fn at_start(t_start: f64, feed_on: bool, decomposition_on: bool) -> Phase {
+        Phase {
+            feed_on,
+            cooling_on: true,
+            decomposition_on,
+            t_start,
+            fed_at_start: 0.0,
+            feed_interlocked: false,
+            feed_delay: 0.0,
+            boiling: false,
+        }
+    }
 }
 
 /// Positions in the state vector: T, the species (gas species: moles formed so far),
@@ -35,8 +61,12 @@ impl Layout {
     pub fn decomposition_heat(&self) -> usize {
         3 + self.species
     }
-    pub fn state_len(&self) -> usize {
+    /// Jacket temperature (a state of its own when it follows its set value with a lag).
+    pub fn jacket(&self) -> usize {
         4 + self.species
+    }
+    pub fn state_len(&self) -> usize {
+        5 + self.species
     }
 }
 
@@ -56,7 +86,12 @@ pub struct Snapshot {
     pub reaction_power: f64,
     pub decomposition_power: f64,
     pub cooling_power: f64,
+    /// The jacket temperature, K.
+    pub coolant_temperature: f64,
     pub feed_sensible_power: f64,
+    /// While boiling: the heat that goes into evaporation, W, and the vapour rate, mol/s.
+    pub evaporation_power: f64,
+    pub vapour_rate: f64,
     /// kg/s of all gas species leaving
     pub off_gas_rate: f64,
     pub alpha: f64,
@@ -77,7 +112,50 @@ impl Plant {
         for (i, n) in self.charge.amounts.iter().enumerate() {
             x[layout.amount(i)] = *n;
         }
+        x[layout.jacket()] = self.initial_jacket_temperature(&x);
         x
+    }
+
+    /// The phase at t = 0 of normal operation.
+    pub fn initial_phase(&self) -> Phase {
+        let feed_on = self.feed.as_ref().is_some_and(|f| f.is_on_at(0.0));
+        Phase::at_start(0.0, feed_on, self.decomposition.is_some())
+    }
+
+    fn initial_jacket_temperature(&self, x: &[f64]) -> f64 {
+        match self.jacket {
+            Jacket::Constant(t) => t,
+            Jacket::Hold { initial, .. } if initial.is_finite() => initial,
+            Jacket::Hold { .. } => {
+                let mut rates = vec![0.0; self.network.reactions.len()];
+                let s = self.snapshot_with(&self.initial_phase(), 0.0, x, &mut rates, true);
+                self.jacket_set_value(&s)
+            }
+        }
+    }
+
+    /// The jacket temperature that holds Tp: feed-forward of the heat released and taken by
+    /// the feed, plus a proportional correction that brings T back to Tp over
+    /// `HOLD_CORRECTION_TIME` (or twice the jacket lag, if longer); clipped to the range.
+    fn jacket_set_value(&self, s: &Snapshot) -> f64 {
+        let Jacket::Hold {
+            minimum,
+            maximum,
+            lag,
+            ..
+        } = self.jacket
+        else {
+            return s.coolant_temperature;
+        };
+        let ua = self.u * s.cooled_area;
+        if ua <= 0.0 {
+            return minimum;
+        }
+        let correction_time = HOLD_CORRECTION_TIME.max(2.0 * lag);
+        let heat_in = s.reaction_power + s.decomposition_power + s.feed_sensible_power;
+        let correction =
+            s.heat_capacity * (s.temperature - self.process_temperature) / correction_time;
+        (s.temperature - (heat_in + correction) / ua).clamp(minimum, maximum)
     }
 
     pub fn fed_mass(&self, phase: &Phase, t: f64) -> f64 {
@@ -168,12 +246,7 @@ impl Plant {
         } else {
             0.0
         };
-        let cooling_power = if phase.cooling_on {
-            self.u * cooled_area * (temperature - self.coolant_temperature)
-        } else {
-            0.0
-        };
-        Snapshot {
+        let mut s = Snapshot {
             time: t,
             temperature,
             fed_mass,
@@ -185,11 +258,27 @@ impl Plant {
             gas_mass,
             reaction_power,
             decomposition_power,
-            cooling_power,
+            cooling_power: 0.0,
+            coolant_temperature: f64::NAN,
             feed_sensible_power: feed_rate * feed_cp * (feed_t - temperature),
+            evaporation_power: 0.0,
+            vapour_rate: 0.0,
             off_gas_rate,
             alpha,
+        };
+        s.coolant_temperature = match self.jacket {
+            Jacket::Constant(t) => t,
+            Jacket::Hold { lag, .. } if lag > 0.0 => x[layout.jacket()],
+            Jacket::Hold { .. } => self.jacket_set_value(&s),
+        };
+        if phase.cooling_on {
+            s.cooling_power = self.u * cooled_area * (temperature - s.coolant_temperature);
         }
+        if let (Some(barrier), true) = (&self.boiling, phase.boiling) {
+            s.evaporation_power = s.net_heat_without_evaporation();
+            s.vapour_rate = s.evaporation_power / barrier.heat_of_vaporisation;
+        }
+        s
     }
 
     fn off_gas_rate(&self, rates: &[f64], volume: f64) -> f64 {
@@ -210,8 +299,7 @@ impl Plant {
     /// dT/dt at state x, K/s: the net heat flow over the heat capacity.
     pub fn temperature_rate(&self, phase: &Phase, t: f64, x: &[f64]) -> f64 {
         let s = self.snapshot(phase, t, x);
-        (s.reaction_power + s.decomposition_power - s.cooling_power + s.feed_sensible_power)
-            / s.heat_capacity
+        s.net_heat() / s.heat_capacity
     }
 
     /// dx/dt of the balance (model.md): species, energy, decomposition conversion.
@@ -229,9 +317,13 @@ impl Plant {
             let fed = feed.map_or(0.0, |f| f.stream.amounts[i] / f.duration);
             dx[layout.amount(i)] = reacted + fed;
         }
-        let heat_in =
-            s.reaction_power + s.decomposition_power - s.cooling_power + s.feed_sensible_power;
-        dx[Layout::TEMPERATURE] = heat_in / s.heat_capacity;
+        dx[Layout::TEMPERATURE] = s.net_heat() / s.heat_capacity;
+        dx[layout.jacket()] = match self.jacket {
+            Jacket::Hold { lag, .. } if lag > 0.0 && phase.cooling_on => {
+                (self.jacket_set_value(&s) - s.coolant_temperature) / lag
+            }
+            _ => 0.0,
+        };
         let feed_rate = feed.map_or(0.0, |f| f.mass_rate());
         dx[layout.alpha()] = match (&self.decomposition, phase.decomposition_on) {
             (Some(d), true) => {
@@ -241,6 +333,19 @@ impl Plant {
         };
         dx[layout.reaction_heat()] = s.reaction_power;
         dx[layout.decomposition_heat()] = s.decomposition_power;
+    }
+}
+
+impl Snapshot {
+    /// Heat into the contents before any evaporation, W.
+    pub fn net_heat_without_evaporation(&self) -> f64 {
+        self.reaction_power + self.decomposition_power - self.cooling_power
+            + self.feed_sensible_power
+    }
+
+    /// Heat that changes the contents' temperature, W: none while boiling.
+    pub fn net_heat(&self) -> f64 {
+        self.net_heat_without_evaporation() - self.evaporation_power
     }
 }
 

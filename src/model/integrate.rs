@@ -1,15 +1,17 @@
-//! Integration of the balance over one stretch without discontinuities, with ode_solvers'
-//! Dopri5 (adaptive explicit Runge-Kutta 5(4), tight tolerances) on a scaled state, keeping
-//! every accepted step and the solver's dense output for values in between.
+//! Integration of the balance over one stretch without discontinuities, on a scaled state:
+//! ode_solvers' Dopri5 (adaptive explicit Runge-Kutta 5(4), tight tolerances) while the
+//! problem is not stiff, and the extrapolated linearly implicit Euler method of `stiff` from
+//! where Dopri5 finds it stiff. Every accepted step is kept with its derivative, so that
+//! values in between come from cubic Hermite interpolation.
 //!
-//! Small states (the usual case) use fixed-size vectors, so the solver's stages allocate
-//! nothing; larger networks fall back to a heap vector.
+//! Small states (the usual case) use fixed-size vectors, so that the explicit stages
+//! allocate nothing; larger networks fall back to a heap vector.
 
 use super::balance::{Layout, Phase};
 use super::plant::Plant;
+use super::stiff::{StiffFailure, StiffSettings, integrate_stiff};
 use nalgebra::allocator::Allocator;
 use nalgebra::{Const, DefaultAllocator, Dim, Dyn, OVector};
-use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::dop_shared::{IntegrationError, OutputType};
 use ode_solvers::{Dopri5, System};
 use std::cell::{Cell, RefCell};
@@ -18,8 +20,10 @@ use std::time::Instant;
 /// Relative and absolute tolerance on the scaled state (all components of order one).
 pub const RELATIVE_TOLERANCE: f64 = 1e-9;
 pub const ABSOLUTE_TOLERANCE: f64 = 1e-11;
-/// Accepted steps allowed in one stretch before the run is declared too stiff.
+/// Accepted steps allowed in one stretch, for each method.
 pub const MAX_STEPS: u32 = 400_000;
+/// Dopri5 tests for stiffness every this many steps (and every step once it suspects it).
+const STIFFNESS_CHECK_INTERVAL: u32 = 100;
 
 /// Why a stretch could not be integrated.
 #[derive(Debug, Clone, PartialEq)]
@@ -30,54 +34,83 @@ pub enum IntegrationFailure {
     NotFinite { at_time: f64 },
 }
 
-/// The solver's dense output, for the vector size the stretch was solved with.
-enum Dense {
-    Small(ContinuousOutputModel<f64, OVector<f64, Const<8>>>),
-    Medium(ContinuousOutputModel<f64, OVector<f64, Const<16>>>),
-    Large(ContinuousOutputModel<f64, OVector<f64, Dyn>>),
-    None,
-}
-
-impl Dense {
-    fn evaluate(&self, t: f64) -> Option<Vec<f64>> {
-        match self {
-            Dense::Small(m) => m.evaluate(t).map(|y| y.iter().copied().collect()),
-            Dense::Medium(m) => m.evaluate(t).map(|y| y.iter().copied().collect()),
-            Dense::Large(m) => m.evaluate(t).map(|y| y.iter().copied().collect()),
-            Dense::None => None,
-        }
-    }
-}
-
-/// The result of one stretch: accepted steps (physical state) and dense output.
+/// The result of one stretch: accepted steps with their derivatives (physical units).
 pub struct Piece {
     pub phase: Phase,
     pub t_start: f64,
     pub t_end: f64,
     pub times: Vec<f64>,
     pub states: Vec<Vec<f64>>,
-    dense: Dense,
-    scale: Vec<f64>,
+    pub derivatives: Vec<Vec<f64>>,
     /// True when the stop rule ended the stretch before the planned end.
     pub stopped_early: bool,
+    /// True when part of the stretch needed the stiff method.
+    pub went_stiff: bool,
 }
 
 impl Piece {
-    /// The state at `t` within the stretch, from the solver's dense output.
+    /// The state at `t` within the stretch: cubic Hermite interpolation between the steps.
     pub fn state_at(&self, t: f64) -> Vec<f64> {
         let t = t.clamp(self.t_start, self.t_end);
-        if t <= self.t_start {
+        let k = self.times.partition_point(|time| *time < t);
+        if k == 0 {
             return self.states[0].clone();
         }
-        match self.dense.evaluate(t) {
-            Some(y) => y.iter().zip(&self.scale).map(|(v, s)| v * s).collect(),
-            None => self.states.last().cloned().unwrap_or_default(),
+        if k >= self.times.len() {
+            return self.states.last().cloned().unwrap_or_default();
         }
+        let (t0, t1) = (self.times[k - 1], self.times[k]);
+        let h = t1 - t0;
+        if h <= 0.0 {
+            return self.states[k].clone();
+        }
+        let s = (t - t0) / h;
+        let (h00, h10, h01, h11) = hermite_basis(s);
+        let (x0, x1) = (&self.states[k - 1], &self.states[k]);
+        let (d0, d1) = (&self.derivatives[k - 1], &self.derivatives[k]);
+        (0..x0.len())
+            .map(|i| h00 * x0[i] + h10 * h * d0[i] + h01 * x1[i] + h11 * h * d1[i])
+            .collect()
     }
 
     pub fn last_state(&self) -> &[f64] {
         self.states.last().map(Vec::as_slice).unwrap_or(&[])
     }
+
+    /// Time of the accepted step before the last one (where an event found at the last step
+    /// began to be crossed).
+    pub fn previous_step_time(&self) -> f64 {
+        let n = self.times.len();
+        self.times[n.saturating_sub(2)]
+    }
+
+    /// Ends the stretch at `t` (within it), with the interpolated state there, which may be
+    /// adjusted by `adjust` (an event puts a state exactly on its threshold).
+    pub fn truncate(&mut self, t: f64, adjust: &dyn Fn(&mut Vec<f64>)) {
+        let k = self.times.partition_point(|time| *time < t).max(1);
+        let mut state = self.state_at(t);
+        adjust(&mut state);
+        let derivative = self.derivatives[k.min(self.derivatives.len() - 1)].clone();
+        self.times.truncate(k);
+        self.states.truncate(k);
+        self.derivatives.truncate(k);
+        self.times.push(t);
+        self.states.push(state);
+        self.derivatives.push(derivative);
+        self.t_end = t;
+        self.stopped_early = true;
+    }
+}
+
+/// Cubic Hermite basis functions on [0, 1].
+fn hermite_basis(s: f64) -> (f64, f64, f64, f64) {
+    let (s2, s3) = (s * s, s * s * s);
+    (
+        2.0 * s3 - 3.0 * s2 + 1.0,
+        s3 - 2.0 * s2 + s,
+        -2.0 * s3 + 3.0 * s2,
+        s3 - s2,
+    )
 }
 
 /// A rule checked after every accepted step: (t, state, derivative) -> stop now.
@@ -96,14 +129,16 @@ pub fn state_scale(plant: &Plant) -> Vec<f64> {
     scale[layout.alpha()] = 1.0;
     scale[layout.reaction_heat()] = heat_scale;
     scale[layout.decomposition_heat()] = heat_scale;
+    scale[layout.jacket()] = 100.0;
     scale
 }
 
-/// Buffers reused by every evaluation of the right-hand side.
-struct Scratch {
-    x: Vec<f64>,
-    dx: Vec<f64>,
-    rates: Vec<f64>,
+/// The accepted steps so far, physical units.
+#[derive(Default)]
+struct Record {
+    times: Vec<f64>,
+    states: Vec<Vec<f64>>,
+    derivatives: Vec<Vec<f64>>,
 }
 
 /// What the step callback saw, read back after the solver has finished.
@@ -112,6 +147,7 @@ struct RunStatus {
     steps: u32,
     out_of_time: bool,
     not_finite: bool,
+    stopped: bool,
 }
 
 /// The balance on the scaled state: y = x / scale; components past the state are padding.
@@ -119,50 +155,66 @@ struct ScaledBalance<'a, 'r> {
     plant: &'a Plant,
     phase: Phase,
     scale: &'a [f64],
-    scratch: RefCell<Scratch>,
-    stop: Option<StopRule<'r>>,
+    scratch: RefCell<(Vec<f64>, Vec<f64>, Vec<f64>)>,
+    stop: RefCell<Option<StopRule<'r>>>,
     deadline: Option<Instant>,
-    status: &'a Cell<RunStatus>,
+    status: Cell<RunStatus>,
+    record: RefCell<Record>,
 }
 
-impl<D: Dim> System<f64, OVector<f64, D>> for ScaledBalance<'_, '_>
-where
-    DefaultAllocator: Allocator<D>,
-{
-    fn system(&self, t: f64, y: &OVector<f64, D>, dy: &mut OVector<f64, D>) {
+impl ScaledBalance<'_, '_> {
+    /// f on scaled slices (the first `scale.len()` components; padding gets zero).
+    fn scaled_rhs(&self, t: f64, y: &[f64], dy: &mut [f64]) {
         let mut guard = self.scratch.borrow_mut();
-        let Scratch { x, dx, rates } = &mut *guard;
-        for ((xi, yi), s) in x.iter_mut().zip(y.iter()).zip(self.scale) {
+        let (x, dx, rates) = &mut *guard;
+        for ((xi, yi), s) in x.iter_mut().zip(y).zip(self.scale) {
             *xi = yi * s;
         }
         self.plant.derivatives(&self.phase, t, x, dx, rates);
-        dy.fill(0.0);
+        dy.iter_mut().for_each(|d| *d = 0.0);
         for ((d, v), s) in dy.iter_mut().zip(dx.iter()).zip(self.scale) {
             *d = v / s;
         }
     }
 
-    fn solout(&mut self, t: f64, y: &OVector<f64, D>, dy: &OVector<f64, D>) -> bool {
+    /// Records an accepted step and asks the stop rule; true ends the stretch.
+    fn accept(&self, t: f64, y: &[f64], dy: &[f64]) -> bool {
         let mut status = self.status.get();
         status.steps += 1;
         status.not_finite = !y.iter().all(|v| v.is_finite());
         status.out_of_time =
             status.steps % 512 == 0 && self.deadline.is_some_and(|d| Instant::now() > d);
-        self.status.set(status);
         if status.not_finite || status.out_of_time {
+            self.status.set(status);
             return true;
         }
-        let Some(rule) = self.stop.as_mut() else {
-            return false;
-        };
-        let mut guard = self.scratch.borrow_mut();
-        let Scratch { x, dx, .. } = &mut *guard;
-        let scaled = y.iter().zip(dy.iter()).zip(self.scale);
-        for ((xi, di), ((yi, dyi), s)) in x.iter_mut().zip(dx.iter_mut()).zip(scaled) {
-            *xi = yi * s;
-            *di = dyi * s;
-        }
-        rule(t, x, dx)
+        let x: Vec<f64> = y.iter().zip(self.scale).map(|(v, s)| v * s).collect();
+        let dx: Vec<f64> = dy.iter().zip(self.scale).map(|(v, s)| v * s).collect();
+        status.stopped = self
+            .stop
+            .borrow_mut()
+            .as_mut()
+            .is_some_and(|rule| rule(t, &x, &dx));
+        self.status.set(status);
+        let mut record = self.record.borrow_mut();
+        record.times.push(t);
+        record.states.push(x);
+        record.derivatives.push(dx);
+        status.stopped
+    }
+}
+
+impl<D: Dim> System<f64, OVector<f64, D>> for &ScaledBalance<'_, '_>
+where
+    DefaultAllocator: Allocator<D>,
+{
+    fn system(&self, t: f64, y: &OVector<f64, D>, dy: &mut OVector<f64, D>) {
+        self.scaled_rhs(t, y.as_slice(), dy.as_mut_slice());
+    }
+
+    fn solout(&mut self, t: f64, y: &OVector<f64, D>, dy: &OVector<f64, D>) -> bool {
+        let n = self.scale.len();
+        self.accept(t, &y.as_slice()[..n], &dy.as_slice()[..n])
     }
 }
 
@@ -177,76 +229,81 @@ pub fn integrate_stretch(
     deadline: Option<Instant>,
 ) -> Result<Piece, IntegrationFailure> {
     let scale = state_scale(plant);
-    if t1 <= t0 {
-        return Ok(single_point_piece(phase, t0, x0, scale));
-    }
-    let status = Cell::new(RunStatus::default());
+    let n = x0.len();
     let system = ScaledBalance {
         plant,
         phase,
         scale: &scale,
-        scratch: RefCell::new(Scratch {
-            x: vec![0.0; x0.len()],
-            dx: vec![0.0; x0.len()],
-            rates: vec![0.0; plant.network.reactions.len()],
-        }),
-        stop,
+        scratch: RefCell::new((
+            vec![0.0; n],
+            vec![0.0; n],
+            vec![0.0; plant.network.reactions.len()],
+        )),
+        stop: RefCell::new(stop),
         deadline,
-        status: &status,
+        status: Cell::new(RunStatus::default()),
+        record: RefCell::new(Record::default()),
     };
     let y0: Vec<f64> = x0.iter().zip(&scale).map(|(v, s)| v / s).collect();
-    let (times, ys, dense) = match x0.len() {
-        0..=8 => solve(
-            system,
-            t0,
-            t1,
-            OVector::<f64, Const<8>>::from_iterator(padded(&y0, 8)),
-            Dense::Small,
-        )?,
-        9..=16 => solve(
-            system,
-            t0,
-            t1,
-            OVector::<f64, Const<16>>::from_iterator(padded(&y0, 16)),
-            Dense::Medium,
-        )?,
-        n => solve(
-            system,
-            t0,
-            t1,
-            OVector::<f64, Dyn>::from_iterator(n, y0.iter().copied()),
-            Dense::Large,
-        )?,
-    };
-    let last_time = times.last().copied().unwrap_or(t0);
-    let outcome = status.get();
-    if outcome.out_of_time {
+    let mut dy0 = vec![0.0; n];
+    system.scaled_rhs(t0, &y0, &mut dy0);
+    {
+        let mut record = system.record.borrow_mut();
+        record.times.push(t0);
+        record.states.push(x0.to_vec());
+        record
+            .derivatives
+            .push(dy0.iter().zip(&scale).map(|(v, s)| v * s).collect());
+    }
+    let mut went_stiff = false;
+    if t1 > t0 {
+        let explicit = match n {
+            0..=8 => explicit_run(
+                &system,
+                t0,
+                t1,
+                OVector::<f64, Const<8>>::from_iterator(padded(&y0, 8)),
+            ),
+            9..=16 => explicit_run(
+                &system,
+                t0,
+                t1,
+                OVector::<f64, Const<16>>::from_iterator(padded(&y0, 16)),
+            ),
+            _ => explicit_run(
+                &system,
+                t0,
+                t1,
+                OVector::<f64, Dyn>::from_iterator(n, y0.iter().copied()),
+            ),
+        };
+        match explicit {
+            Ok(()) => {}
+            Err(Stiff) => {
+                went_stiff = true;
+                stiff_run(&system, t1)?;
+            }
+        }
+    }
+    let status = system.status.get();
+    let record = system.record.into_inner();
+    let last_time = record.times.last().copied().unwrap_or(t0);
+    if status.out_of_time {
         return Err(IntegrationFailure::OutOfTime { at_time: last_time });
     }
-    if outcome.not_finite {
+    if status.not_finite {
         return Err(IntegrationFailure::NotFinite { at_time: last_time });
     }
-    let mut all_times = Vec::with_capacity(times.len() + 1);
-    all_times.push(t0);
-    all_times.extend(times);
-    let mut states = Vec::with_capacity(ys.len() + 1);
-    states.push(x0.to_vec());
-    states.extend(ys.into_iter().map(|y| {
-        y.iter()
-            .zip(&scale)
-            .map(|(v, s)| v * s)
-            .collect::<Vec<f64>>()
-    }));
-    let stopped_early = last_time < t1 - 1e-9 * (t1 - t0).max(1.0);
+    let stopped_early = status.stopped && last_time < t1 - 1e-9 * (t1 - t0).max(1.0);
     Ok(Piece {
         phase,
         t_start: t0,
         t_end: last_time,
-        times: all_times,
-        states,
-        dense,
-        scale,
+        times: record.times,
+        states: record.states,
+        derivatives: record.derivatives,
         stopped_early,
+        went_stiff,
     })
 }
 
@@ -258,15 +315,15 @@ fn padded(values: &[f64], size: usize) -> impl Iterator<Item = f64> + '_ {
         .take(size)
 }
 
-type Solved = (Vec<f64>, Vec<Vec<f64>>, Dense);
+/// Dopri5 found the stretch stiff (or too long for it): go on with the stiff method.
+struct Stiff;
 
-fn solve<D: Dim>(
-    system: ScaledBalance<'_, '_>,
+fn explicit_run<D: Dim>(
+    system: &ScaledBalance<'_, '_>,
     t0: f64,
     t1: f64,
     y0: OVector<f64, D>,
-    wrap: fn(ContinuousOutputModel<f64, OVector<f64, D>>) -> Dense,
-) -> Result<Solved, IntegrationFailure>
+) -> Result<(), Stiff>
 where
     DefaultAllocator: Allocator<D>,
 {
@@ -285,37 +342,50 @@ where
         t1 - t0,
         0.0,
         MAX_STEPS,
-        u32::MAX,
-        OutputType::Continuous,
+        STIFFNESS_CHECK_INTERVAL,
+        OutputType::Sparse,
     );
-    let mut dense = ContinuousOutputModel::new();
-    solver
-        .integrate_with_continuous_output_model(&mut dense)
-        .map_err(|e| match e {
-            IntegrationError::MaxNumStepReached { x, .. } => {
-                IntegrationFailure::TooManySteps { at_time: x }
-            }
-            IntegrationError::StepSizeUnderflow { x } => {
-                IntegrationFailure::StepSizeUnderflow { at_time: x }
-            }
-            IntegrationError::StiffnessDetected { x } => {
-                IntegrationFailure::TooManySteps { at_time: x }
-            }
-        })?;
-    let (times, ys) = solver.results().get();
-    let states = ys.iter().map(|y| y.iter().copied().collect()).collect();
-    Ok((times.clone(), states, wrap(dense)))
+    match solver.integrate() {
+        Ok(_) => Ok(()),
+        Err(
+            IntegrationError::StiffnessDetected { .. }
+            | IntegrationError::MaxNumStepReached { .. }
+            | IntegrationError::StepSizeUnderflow { .. },
+        ) => Err(Stiff),
+    }
 }
 
-fn single_point_piece(phase: Phase, t0: f64, x0: &[f64], scale: Vec<f64>) -> Piece {
-    Piece {
-        phase,
-        t_start: t0,
-        t_end: t0,
-        times: vec![t0],
-        states: vec![x0.to_vec()],
-        dense: Dense::None,
-        scale,
-        stopped_early: false,
-    }
+/// Continues the stretch from the last accepted step with the stiff method.
+fn stiff_run(system: &ScaledBalance<'_, '_>, t1: f64) -> Result<(), IntegrationFailure> {
+    let (t_from, y_from, h) = {
+        let record = system.record.borrow();
+        let k = record.times.len() - 1;
+        let y: Vec<f64> = record.states[k]
+            .iter()
+            .zip(system.scale)
+            .map(|(v, s)| v / s)
+            .collect();
+        let h = if k > 0 {
+            record.times[k] - record.times[k - 1]
+        } else {
+            (t1 - record.times[k]) * 1e-6
+        };
+        (record.times[k], y, h)
+    };
+    let settings = StiffSettings {
+        relative_tolerance: RELATIVE_TOLERANCE * 100.0,
+        absolute_tolerance: ABSOLUTE_TOLERANCE * 100.0,
+        max_steps: MAX_STEPS,
+        initial_step: h.max(1e-9),
+    };
+    let rhs = |t: f64, y: &[f64], dy: &mut [f64]| system.scaled_rhs(t, y, dy);
+    let mut on_step = |t: f64, y: &[f64], dy: &[f64]| system.accept(t, y, dy);
+    integrate_stiff(&rhs, t_from, &y_from, t1, settings, &mut on_step)
+        .map(|_| ())
+        .map_err(|e| match e {
+            StiffFailure::TooManySteps { at_time } => IntegrationFailure::TooManySteps { at_time },
+            StiffFailure::StepSizeUnderflow { at_time } | StiffFailure::Singular { at_time } => {
+                IntegrationFailure::StepSizeUnderflow { at_time }
+            }
+        })
 }

@@ -5,4 +5,5 @@ pub mod integrate;
 pub mod network;
 pub mod plant;
 pub mod scenario;
+pub mod stiff;
 pub mod vessel;

@@ -10,8 +10,9 @@ use uom::si::{
     amount_of_substance::mole, available_energy::joule_per_kilogram,
     heat_capacity::joule_per_kelvin, heat_transfer::watt_per_square_meter_kelvin, length::meter,
     mass::kilogram, mass_density::kilogram_per_cubic_meter, molar_energy::joule_per_mole,
-    specific_heat_capacity::joule_per_kilogram_kelvin, specific_power::watt_per_kilogram,
-    thermodynamic_temperature::kelvin, time::second, volume::cubic_meter,
+    molar_mass::kilogram_per_mole, power::watt, specific_heat_capacity::joule_per_kilogram_kelvin,
+    specific_power::watt_per_kilogram, thermodynamic_temperature::kelvin, time::second,
+    volume::cubic_meter,
 };
 
 /// A liquid stream: mass (kg), specific heat (J/(kg K)), density (kg/m^3), amounts (mol).
@@ -79,6 +80,33 @@ impl DecompositionLaw {
     }
 }
 
+/// How the jacket temperature is set.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Jacket {
+    /// One coolant temperature all along (the contract model), K.
+    Constant(f64),
+    /// Adjusted to hold Tp within [minimum, maximum] (K), following its set value with a
+    /// first-order lag (s; zero for an ideal jacket); `initial` K or NaN (then: the set value).
+    Hold {
+        minimum: f64,
+        maximum: f64,
+        lag: f64,
+        initial: f64,
+    },
+}
+
+/// The boiling barrier: the solvent boils at `boiling_point` (K) once cooling is lost.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoilingBarrier {
+    pub boiling_point: f64,
+    /// J/mol
+    pub heat_of_vaporisation: f64,
+    /// kg/mol
+    pub molar_mass: f64,
+    /// W; None where no condenser is given.
+    pub condenser_capacity: Option<f64>,
+}
+
 #[derive(Debug, Clone)]
 pub struct Plant {
     pub network: Network,
@@ -90,13 +118,30 @@ pub struct Plant {
     pub vessel_heat_capacity: f64,
     pub charge: Stream,
     pub feed: Option<FeedPlan>,
+    /// The constant coolant temperature, or in hold mode the initial jacket temperature, K.
     pub coolant_temperature: f64,
+    pub jacket: Jacket,
+    /// Dosing interlock: the feed stops whenever T is above this, K.
+    pub stop_feed_above: Option<f64>,
+    pub boiling: Option<BoilingBarrier>,
     pub process_temperature: f64,
     pub process_duration: f64,
     pub dosing_after_failure: Dosing,
     pub failure_horizon: f64,
     pub decomposition: Option<DecompositionLaw>,
     pub mtt: f64,
+}
+
+fn jacket_of(case: &Case) -> Jacket {
+    match &case.jacket_control {
+        None => Jacket::Constant(case.coolant_temperature.get::<kelvin>()),
+        Some(c) => Jacket::Hold {
+            minimum: c.minimum.get::<kelvin>(),
+            maximum: c.maximum.get::<kelvin>(),
+            lag: c.time_constant.get::<second>(),
+            initial: case.coolant_temperature.get::<kelvin>(),
+        },
+    }
 }
 
 fn amounts_vector(network: &Network, amounts: &BTreeMap<String, AmountOfSubstance>) -> Vec<f64> {
@@ -153,6 +198,14 @@ impl Plant {
             charge,
             feed,
             coolant_temperature: case.coolant_temperature.get::<kelvin>(),
+            jacket: jacket_of(case),
+            stop_feed_above: case.failure.stop_above.map(|t| t.get::<kelvin>()),
+            boiling: case.solvent.as_ref().map(|s| BoilingBarrier {
+                boiling_point: s.boiling_point.get::<kelvin>(),
+                heat_of_vaporisation: s.heat_of_vaporisation.get::<joule_per_mole>(),
+                molar_mass: s.molar_mass.get::<kilogram_per_mole>(),
+                condenser_capacity: case.condenser.as_ref().map(|c| c.capacity.get::<watt>()),
+            }),
             process_temperature: case.process_temperature.get::<kelvin>(),
             process_duration: case.process_duration.get::<second>(),
             dosing_after_failure: case.failure.dosing,
@@ -192,9 +245,12 @@ impl Plant {
         self.feed.as_ref().map_or(0.0, |f| f.end())
     }
 
-    /// The coldest the jacket can be: the coolant temperature (constant mode).
+    /// The coldest the jacket can be: the coolant temperature, or the minimum in hold mode.
     pub fn coldest_coolant_temperature(&self) -> f64 {
-        self.coolant_temperature
+        match self.jacket {
+            Jacket::Constant(t) => t,
+            Jacket::Hold { minimum, .. } => minimum,
+        }
     }
 
     /// How far the normal-operation reference run is followed: the process, and the whole feed.

@@ -1,12 +1,14 @@
 //! Scenarios: normal operation, and a cooling failure at any time with the feed going on or
-//! stopping. Each is integrated piecewise between its discontinuities (feed start and end,
-//! the failure), with the decomposition switched off once it is spent.
+//! stopping. Each is integrated piecewise between its discontinuities: scheduled ones (feed
+//! start and end, the failure) and events found on the way (the dosing interlock tripping or
+//! resetting, boiling starting or ending, the decomposition spent), each located on the
+//! solver's dense output before the next stretch starts from it.
 
 use super::balance::{Layout, Phase};
 use super::integrate::{IntegrationFailure, Piece, integrate_stretch};
 use super::plant::Plant;
 use crate::case::Dosing;
-use crate::numeric::golden_section_max;
+use crate::numeric::{bisect, golden_section_max};
 use std::time::Instant;
 
 /// Decomposition conversion above which its remaining heat is negligible and it is switched
@@ -64,6 +66,15 @@ impl Trajectory {
 
     pub fn last_state(&self) -> &[f64] {
         self.pieces.last().map_or(&[], |p| p.last_state())
+    }
+
+    /// When the feed actually ended (later than planned if an interlock held it), if it ran.
+    pub fn feed_end(&self) -> Option<f64> {
+        self.pieces
+            .iter()
+            .rev()
+            .find(|p| p.phase.feed_on)
+            .map(|p| p.t_end)
     }
 
     pub fn samples(&self) -> impl Iterator<Item = Sample<'_>> {
@@ -138,7 +149,12 @@ impl Trajectory {
     }
 }
 
-/// What is switched on over time in one scenario.
+/// The dosing interlock resets this far below its set point, K (so that it does not chatter).
+pub const INTERLOCK_HYSTERESIS_K: f64 = 1.0;
+/// More events than this in one run means something chatters: the run is stopped.
+const MAX_EVENTS: usize = 10_000;
+
+/// What a scenario switches, fixed for the whole run.
 #[derive(Debug, Clone, Copy)]
 struct Switches {
     failure_time: Option<f64>,
@@ -146,18 +162,25 @@ struct Switches {
     decomposition: bool,
 }
 
-impl Switches {
-    fn phase_at(&self, plant: &Plant, t: f64, fed_mass: f64, spent: bool) -> Phase {
-        let failed = self.failure_time.is_some_and(|tf| t >= tf);
-        let feed_planned = plant.feed.as_ref().is_some_and(|f| f.is_on_at(t));
-        Phase {
-            feed_on: feed_planned && !(failed && self.feed_stops_at_failure),
-            cooling_on: !failed,
-            decomposition_on: self.decomposition && plant.decomposition.is_some() && !spent,
-            t_start: t,
-            fed_at_start: fed_mass,
-        }
-    }
+/// What the run knows at the start of each stretch besides the state vector.
+#[derive(Debug, Clone, Copy)]
+struct Status {
+    fed: f64,
+    interlocked: bool,
+    delay: f64,
+    boiling: bool,
+    spent: bool,
+}
+
+/// What ended a stretch before its scheduled end.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Event {
+    Spent,
+    Settled,
+    InterlockTrip,
+    InterlockReset,
+    BoilingStarts,
+    BoilingEnds,
 }
 
 /// Options of a cooling-failure run.
@@ -174,19 +197,28 @@ pub fn run_normal(plant: &Plant, deadline: Option<Instant>) -> Result<Trajectory
         feed_stops_at_failure: false,
         decomposition: true,
     };
+    let status = Status {
+        fed: 0.0,
+        interlocked: false,
+        delay: 0.0,
+        boiling: false,
+        spent: false,
+    };
+    let end = plant.normal_horizon();
     run(
         plant,
         0.0,
-        &plant.initial_state(),
-        0.0,
-        plant.normal_horizon(),
+        plant.initial_state(),
+        status,
+        end,
         switches,
         deadline,
     )
     .map_err(|e| scenario_error("normal operation", e))
 }
 
-/// A cooling failure at `failure_time`, from the normal state then, followed for the horizon.
+/// A cooling failure at `failure_time`, from the normal state then, followed for the
+/// horizon. With a boiling barrier in the plant, the contents boil at its boiling point.
 pub fn run_failure(
     plant: &Plant,
     normal: &Trajectory,
@@ -195,14 +227,25 @@ pub fn run_failure(
     deadline: Option<Instant>,
 ) -> Result<Trajectory, ScenarioError> {
     let (phase, state) = normal.state_at(failure_time);
-    let fed = plant.fed_mass(&phase, failure_time);
+    let held_for = if phase.feed_interlocked {
+        failure_time - phase.t_start
+    } else {
+        0.0
+    };
+    let status = Status {
+        fed: plant.fed_mass(&phase, failure_time),
+        interlocked: phase.feed_interlocked,
+        delay: phase.feed_delay + held_for,
+        boiling: false,
+        spent: !phase.decomposition_on && plant.decomposition.is_some(),
+    };
     let switches = Switches {
         failure_time: Some(failure_time),
         feed_stops_at_failure: options.dosing == Dosing::Stops,
         decomposition: options.decomposition,
     };
     let end = failure_time + plant.failure_horizon;
-    run(plant, failure_time, &state, fed, end, switches, deadline).map_err(|e| {
+    run(plant, failure_time, state, status, end, switches, deadline).map_err(|e| {
         scenario_error(
             &format!("cooling failure at {:.3} h", failure_time / 3600.0),
             e,
@@ -210,60 +253,156 @@ pub fn run_failure(
     })
 }
 
-/// Times in (t0, t_end) where something switches.
-fn breakpoints(plant: &Plant, t0: f64, t_end: f64, switches: &Switches) -> Vec<f64> {
-    let mut points: Vec<f64> = Vec::new();
-    if let Some(feed) = &plant.feed {
-        points.extend([feed.start, feed.end()]);
+fn phase_at(plant: &Plant, switches: &Switches, t: f64, status: &Status) -> Phase {
+    let failed = switches.failure_time.is_some_and(|tf| t >= tf);
+    let feed_window = plant
+        .feed
+        .as_ref()
+        .is_some_and(|f| t >= f.start && t < f.end() + status.delay);
+    Phase {
+        feed_on: feed_window && !status.interlocked && !(failed && switches.feed_stops_at_failure),
+        cooling_on: !failed,
+        decomposition_on: switches.decomposition && plant.decomposition.is_some() && !status.spent,
+        t_start: t,
+        fed_at_start: status.fed,
+        feed_interlocked: status.interlocked,
+        feed_delay: status.delay,
+        boiling: status.boiling,
     }
-    points.extend(switches.failure_time);
-    points.retain(|t| *t > t0 && *t < t_end);
-    points.push(t_end);
-    points.sort_by(f64::total_cmp);
-    points.dedup();
-    points
+}
+
+/// The next scheduled switch after t: feed start, feed end (moved by the interlock's
+/// delay), the failure, or the end of the run.
+fn next_scheduled(plant: &Plant, switches: &Switches, t: f64, status: &Status, t_end: f64) -> f64 {
+    let mut candidates = vec![t_end];
+    if let Some(feed) = &plant.feed {
+        candidates.extend([feed.start, feed.end() + status.delay]);
+    }
+    candidates.extend(switches.failure_time);
+    candidates
+        .into_iter()
+        .filter(|c| *c > t)
+        .fold(t_end, f64::min)
 }
 
 fn run(
     plant: &Plant,
     t0: f64,
-    x0: &[f64],
-    fed0: f64,
+    x0: Vec<f64>,
+    mut status: Status,
     t_end: f64,
     switches: Switches,
     deadline: Option<Instant>,
 ) -> Result<Trajectory, IntegrationFailure> {
-    let layout = plant.layout();
     let mut pieces: Vec<Piece> = Vec::new();
-    let (mut t, mut x, mut fed) = (t0, x0.to_vec(), fed0);
-    let mut spent = false;
-    for stop_at in breakpoints(plant, t0, t_end, &switches) {
-        while t < stop_at {
-            let phase = switches.phase_at(plant, t, fed, spent);
-            let mut settled = false;
-            let mut rule = |_: f64, state: &[f64], _: &[f64]| {
-                if phase.decomposition_on && state[layout.alpha()] > SPENT_CONVERSION {
-                    return true;
-                }
-                settled = is_settled(plant, &phase, state);
-                settled
-            };
-            let piece = integrate_stretch(plant, phase, t, &x, stop_at, Some(&mut rule), deadline)?;
-            t = if piece.stopped_early {
-                piece.t_end
-            } else {
-                stop_at
-            };
-            x = piece.last_state().to_vec();
-            fed = plant.fed_mass(&phase, t);
-            spent |= phase.decomposition_on && x[layout.alpha()] > SPENT_CONVERSION;
-            pieces.push(piece);
-            if settled {
-                return Ok(Trajectory { pieces });
-            }
+    let (mut t, mut x) = (t0, x0);
+    for _ in 0..MAX_EVENTS {
+        if t >= t_end {
+            return Ok(Trajectory { pieces });
+        }
+        let phase = phase_at(plant, &switches, t, &status);
+        let stop_at = next_scheduled(plant, &switches, t, &status, t_end);
+        let mut found: Option<Event> = None;
+        let mut rule = |time: f64, state: &[f64], _: &[f64]| {
+            found = detect_event(plant, &phase, time, state);
+            found.is_some()
+        };
+        let mut piece = integrate_stretch(plant, phase, t, &x, stop_at, Some(&mut rule), deadline)?;
+        let event = found.filter(|_| piece.stopped_early);
+        if let Some(event) = event {
+            locate_event(plant, &mut piece, event);
+        }
+        t = if piece.stopped_early {
+            piece.t_end
+        } else {
+            stop_at
+        };
+        x = piece.last_state().to_vec();
+        status.fed = plant.fed_mass(&phase, t);
+        if phase.feed_interlocked {
+            status.delay += t - phase.t_start;
+        }
+        pieces.push(piece);
+        match event {
+            Some(Event::Settled) => return Ok(Trajectory { pieces }),
+            Some(Event::Spent) => status.spent = true,
+            Some(Event::InterlockTrip) => status.interlocked = true,
+            Some(Event::InterlockReset) => status.interlocked = false,
+            Some(Event::BoilingStarts) => status.boiling = true,
+            Some(Event::BoilingEnds) => status.boiling = false,
+            None => {}
         }
     }
-    Ok(Trajectory { pieces })
+    Err(IntegrationFailure::TooManySteps { at_time: t })
+}
+
+/// The event, if any, that the state at an accepted step shows.
+fn detect_event(plant: &Plant, phase: &Phase, t: f64, state: &[f64]) -> Option<Event> {
+    let layout = plant.layout();
+    let temperature = state[Layout::TEMPERATURE];
+    if phase.decomposition_on && state[layout.alpha()] > SPENT_CONVERSION {
+        return Some(Event::Spent);
+    }
+    if let Some(limit) = plant.stop_feed_above {
+        if phase.feed_on && temperature > limit {
+            return Some(Event::InterlockTrip);
+        }
+        if phase.feed_interlocked && temperature < limit - INTERLOCK_HYSTERESIS_K {
+            return Some(Event::InterlockReset);
+        }
+    }
+    if let Some(barrier) = &plant.boiling {
+        if !phase.cooling_on && !phase.boiling && temperature >= barrier.boiling_point {
+            return Some(Event::BoilingStarts);
+        }
+        if phase.boiling
+            && plant
+                .snapshot(phase, t, state)
+                .net_heat_without_evaporation()
+                < 0.0
+        {
+            return Some(Event::BoilingEnds);
+        }
+    }
+    is_settled(plant, phase, state).then_some(Event::Settled)
+}
+
+/// Moves the end of `piece` back to where the event's threshold was crossed, found by
+/// bisection on the dense output over the last step.
+fn locate_event(plant: &Plant, piece: &mut Piece, event: Event) {
+    let threshold: Box<dyn Fn(f64, &[f64]) -> f64> = match event {
+        Event::InterlockTrip => {
+            let limit = plant.stop_feed_above.unwrap_or(f64::INFINITY);
+            Box::new(move |_, x: &[f64]| x[Layout::TEMPERATURE] - limit)
+        }
+        Event::InterlockReset => {
+            let reset = plant.stop_feed_above.unwrap_or(f64::INFINITY) - INTERLOCK_HYSTERESIS_K;
+            Box::new(move |_, x: &[f64]| reset - x[Layout::TEMPERATURE])
+        }
+        Event::BoilingStarts => {
+            let boiling = plant.boiling.map_or(f64::INFINITY, |b| b.boiling_point);
+            Box::new(move |_, x: &[f64]| x[Layout::TEMPERATURE] - boiling)
+        }
+        Event::BoilingEnds => {
+            let phase = piece.phase;
+            Box::new(move |t, x: &[f64]| {
+                -plant.snapshot(&phase, t, x).net_heat_without_evaporation()
+            })
+        }
+        Event::Spent | Event::Settled => return,
+    };
+    let (low, high) = (piece.previous_step_time(), piece.t_end);
+    let crossing = |t: f64| threshold(t, &piece.state_at(t));
+    let at = bisect(&crossing, low, high, 1e-9 * high.abs().max(1.0)).unwrap_or(high);
+    let on_threshold = plant
+        .boiling
+        .map(|b| b.boiling_point)
+        .filter(|_| event == Event::BoilingStarts);
+    piece.truncate(at.max(low), &|x: &mut Vec<f64>| {
+        if let Some(boiling) = on_threshold {
+            x[Layout::TEMPERATURE] = boiling;
+        }
+    });
 }
 
 /// After a failure with nothing fed and no decomposition, T no longer changes once the
@@ -273,10 +412,7 @@ fn is_settled(plant: &Plant, phase: &Phase, state: &[f64]) -> bool {
         return false;
     }
     let layout = plant.layout();
-    let amounts: Vec<f64> = (0..layout.species)
-        .map(|i| state[layout.amount(i)])
-        .collect();
-    let remaining = plant.network.releasable_heat(&amounts);
+    let remaining = plant.network.releasable_heat(layout.amounts(state));
     remaining / plant.final_heat_capacity() < SETTLED_RISE_K
 }
 
