@@ -46,6 +46,8 @@ pub struct NormalFigures {
     pub cooling_capacity_at_tp: f64,
     /// Peak off-gas rate of all gas species together, kg/s.
     pub peak_off_gas: f64,
+    /// The coldest the jacket was in normal operation, K (hold mode: what holding Tp takes).
+    pub min_coolant_temperature: f64,
     pub final_decomposition_conversion: f64,
 }
 
@@ -125,6 +127,9 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
     let (_, state_end) = run.state_at(end);
     let off_gas = |phase: &Phase, t: f64, x: &[f64]| plant.snapshot(phase, t, x).off_gas_rate;
     let (_, peak_off_gas) = run.maximum(0.0, end, &off_gas);
+    let coolant =
+        |phase: &Phase, t: f64, x: &[f64]| -plant.snapshot(phase, t, x).coolant_temperature;
+    let (_, min_coolant) = run.maximum(0.0, end, &coolant);
     NormalFigures {
         max_temperature,
         max_temperature_time,
@@ -135,6 +140,7 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
             * at_peak.cooled_area
             * (plant.process_temperature - plant.coldest_coolant_temperature()),
         peak_off_gas,
+        min_coolant_temperature: -min_coolant,
         final_decomposition_conversion: state_end[plant.layout().alpha()],
     }
 }

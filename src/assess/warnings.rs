@@ -2,7 +2,10 @@
 //! margin, and where a figure needs care in reading.
 
 use super::figures::Figures;
+use super::offgas::SpeciesPeak;
+use super::runaway::Runaway;
 use crate::case::Dosing;
+use crate::case::LimitSettings;
 use crate::model::plant::Plant;
 use crate::warning::Warning;
 
@@ -115,4 +118,77 @@ fn normal_operation(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
             ),
         ));
     }
+}
+
+/// Warnings of the coupled runaway: the boiling barrier and the condenser.
+pub fn runaway_warnings(plant: &Plant, r: &Runaway, limits: &LimitSettings) -> Vec<Warning> {
+    let mut out = Vec::new();
+    let after = |s: f64| format!("{:.2} h after the failure", s / 3600.0);
+    match &r.boiling {
+        Some(b) => {
+            if let Some(start) = b.starts_after {
+                out.push(Warning::new(
+                    "boiling-after-failure",
+                    format!("after the worst cooling failure the contents boil at {:.1} degC {}; peak vapour {:.0} kg/h ({:.0} kW to condense)", c(b.boiling_point), after(start), b.peak_vapour_rate_kg_h, b.peak_heat / 1e3),
+                ));
+            }
+            match (b.condenser_capacity, b.condenser_exceeded_after) {
+                (Some(capacity), Some(when)) => out.push(Warning::new(
+                    "condenser-exceeded",
+                    format!("the heat to remove by boiling ({:.0} kW) exceeds the condenser ({:.0} kW) {}: vapour then goes to the vent or the pressure rises, which this model does not follow", b.peak_heat / 1e3, capacity / 1e3, after(when)),
+                )),
+                (None, Some(_)) | (None, None) if b.starts_after.is_some() => out.push(Warning::new(
+                    "no-condenser",
+                    "the contents boil after the failure but no condenser capacity is given: the boiling barrier cannot be judged",
+                )),
+                _ => {}
+            }
+        }
+        None if r.max_temperature >= plant.mtt => out.push(Warning::new(
+            "mtt-reached-no-solvent",
+            format!("the runaway passes the MTT ({:.1} degC); without `solvent` data the model does not boil, so the temperatures above the MTT are what the heat would do if nothing took it out", c(plant.mtt)),
+        )),
+        None => {}
+    }
+    let capacity = limits
+        .off_gas_capacity
+        .map(|c| c.get::<uom::si::mass_rate::kilogram_per_second>() * 3600.0);
+    let after_failure: f64 = r.off_gas.iter().map(|p| p.peak_kg_h).sum();
+    if let Some(capacity) = capacity.filter(|c| after_failure > *c) {
+        out.push(Warning::new(
+            "off-gas-after-failure-above-capacity",
+            format!("after the worst cooling failure the off-gas reaches up to {after_failure:.0} kg/h, above the scrubber capacity {capacity:.0} kg/h"),
+        ));
+    }
+    out
+}
+
+/// Off-gas above the scrubber's capacity.
+pub fn off_gas_warnings(
+    normal: &[SpeciesPeak],
+    limits: &LimitSettings,
+    f: &Figures,
+) -> Vec<Warning> {
+    let Some(capacity) = limits
+        .off_gas_capacity
+        .map(|c| c.get::<uom::si::mass_rate::kilogram_per_second>())
+    else {
+        return Vec::new();
+    };
+    if f.normal.peak_off_gas <= capacity {
+        return Vec::new();
+    }
+    let species: Vec<String> = normal
+        .iter()
+        .map(|p| format!("{} {:.1} kg/h", p.species, p.peak_kg_h))
+        .collect();
+    vec![Warning::new(
+        "off-gas-above-capacity",
+        format!(
+            "peak off-gas in normal operation {:.1} kg/h ({}) exceeds the scrubber capacity {:.1} kg/h",
+            f.normal.peak_off_gas * 3600.0,
+            species.join(", "),
+            capacity * 3600.0
+        ),
+    )]
 }

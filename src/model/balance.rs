@@ -296,6 +296,25 @@ impl Plant {
             .sum()
     }
 
+    /// Formation rate of each gas species at state x, mol/s (index into the species list).
+    pub fn gas_formation_rates(&self, phase: &Phase, t: f64, x: &[f64]) -> Vec<(usize, f64)> {
+        let net = &self.network;
+        let volume = self.snapshot(phase, t, x).volume;
+        let mut rates = vec![0.0; net.reactions.len()];
+        self.reaction_rates(x[Layout::TEMPERATURE], volume, x, &mut rates);
+        (0..net.species_count())
+            .filter(|i| net.gas[*i])
+            .map(|i| {
+                let formed: f64 = rates
+                    .iter()
+                    .zip(&net.reactions)
+                    .map(|(r, law)| law.nu[i] * r)
+                    .sum();
+                (i, formed * volume)
+            })
+            .collect()
+    }
+
     /// dT/dt at state x, K/s: the net heat flow over the heat capacity.
     pub fn temperature_rate(&self, phase: &Phase, t: f64, x: &[f64]) -> f64 {
         let s = self.snapshot(phase, t, x);
