@@ -1598,8 +1598,31 @@ impl Checker<'_> {
 
     fn temperature_order(&mut self, case: &Case) {
         let tp = case.process_temperature.get::<kelvin>();
-        if case.coolant_temperature.get::<kelvin>() >= tp {
+        if case.jacket_control.is_none() && case.coolant_temperature.get::<kelvin>() >= tp {
             self.warn("coolant-not-colder", "coolant.temperature is not below process.temperature: the jacket cannot cool at Tp");
+        }
+        if let Some(control) = &case.jacket_control {
+            if control.minimum.get::<kelvin>() >= tp {
+                self.warn("coolant-not-colder", "coolant.minimum is not below process.temperature: the held jacket cannot cool at Tp");
+            }
+        }
+        if let Some(limit) = case.failure.stop_above {
+            if limit.get::<kelvin>() <= tp {
+                self.warn("interlock-below-process", "failure.stop_above is not above process.temperature: the interlock holds the feed from the start");
+            }
+        }
+        if let Some(solvent) = &case.solvent {
+            let boiling = solvent.boiling_point.get::<kelvin>();
+            if boiling <= tp {
+                self.warn("boiling-below-process", "solvent.boiling_point is not above process.temperature: the contents would boil in normal operation, which the model does not follow");
+            } else if (boiling - case.mtt.get::<kelvin>()).abs() > 0.5 {
+                self.warn("boiling-point-not-mtt", format!("solvent.boiling_point ({:.1} degC) differs from limits.mtt ({:.1} degC): check which is the maximum technical temperature", boiling - 273.15, case.mtt.get::<kelvin>() - 273.15));
+            }
+        } else if case.condenser.is_some() {
+            self.warn(
+                "condenser-without-solvent",
+                "condenser.capacity is given without solvent data: the condenser is not used",
+            );
         }
         if case.mtt.get::<kelvin>() <= tp {
             self.warn("mtt-below-process", "limits.mtt is not above process.temperature: the process runs at or above its maximum technical temperature");
