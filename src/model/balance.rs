@@ -281,30 +281,16 @@ impl Plant {
         s
     }
 
-    fn off_gas_rate(&self, rates: &[f64], volume: f64) -> f64 {
+    /// Formation rate of each gas species (index, mol/s) from the reaction rates.
+    fn gas_formation<'a>(
+        &'a self,
+        rates: &'a [f64],
+        volume: f64,
+    ) -> impl Iterator<Item = (usize, f64)> + 'a {
         let net = &self.network;
         (0..net.species_count())
             .filter(|i| net.gas[*i])
-            .map(|i| {
-                let formed: f64 = rates
-                    .iter()
-                    .zip(&net.reactions)
-                    .map(|(r, law)| law.nu[i] * r * volume)
-                    .sum();
-                formed * net.molar_mass[i]
-            })
-            .sum()
-    }
-
-    /// Formation rate of each gas species at state x, mol/s (index into the species list).
-    pub fn gas_formation_rates(&self, phase: &Phase, t: f64, x: &[f64]) -> Vec<(usize, f64)> {
-        let net = &self.network;
-        let volume = self.snapshot(phase, t, x).volume;
-        let mut rates = vec![0.0; net.reactions.len()];
-        self.reaction_rates(x[Layout::TEMPERATURE], volume, x, &mut rates);
-        (0..net.species_count())
-            .filter(|i| net.gas[*i])
-            .map(|i| {
+            .map(move |i| {
                 let formed: f64 = rates
                     .iter()
                     .zip(&net.reactions)
@@ -312,7 +298,20 @@ impl Plant {
                     .sum();
                 (i, formed * volume)
             })
-            .collect()
+    }
+
+    fn off_gas_rate(&self, rates: &[f64], volume: f64) -> f64 {
+        self.gas_formation(rates, volume)
+            .map(|(i, n)| n * self.network.molar_mass[i])
+            .sum()
+    }
+
+    /// Formation rate of each gas species at state x, mol/s (index into the species list).
+    pub fn gas_formation_rates(&self, phase: &Phase, t: f64, x: &[f64]) -> Vec<(usize, f64)> {
+        let volume = self.snapshot(phase, t, x).volume;
+        let mut rates = vec![0.0; self.network.reactions.len()];
+        self.reaction_rates(x[Layout::TEMPERATURE], volume, x, &mut rates);
+        self.gas_formation(&rates, volume).collect()
     }
 
     /// dT/dt at state x, K/s: the net heat flow over the heat capacity.
