@@ -1,8 +1,12 @@
 //! `cargo bench`: wall-clock time of the whole `check` computation (load, validate, normal
-//! run, worst-failure search, figures) on the demo cases, median of repeated runs.
+//! run, worst-failure search, figures, failure envelope) on the demo cases, median of repeated
+//! runs; then the failure envelope alone (200 failure times, decomposition on) on each case.
 
 use exoscreen::assess::assess;
+use exoscreen::assess::envelope::{ENVELOPE_POINTS, failure_envelope};
 use exoscreen::case::load::load_case_text;
+use exoscreen::model::plant::Plant;
+use exoscreen::model::scenario::run_normal;
 use std::time::{Duration, Instant};
 
 const CASES: [&str; 4] = [
@@ -31,13 +35,40 @@ fn time_case(path: &str, repeats: usize) -> (Duration, Duration) {
     (median(samples), min)
 }
 
+/// The envelope alone, from a normal run computed once beforehand: (median, min) of the
+/// repeats, or the error of a run that failed with the time it took.
+fn time_envelope(path: &str, repeats: usize) -> Result<(Duration, Duration), String> {
+    let text = std::fs::read_to_string(path).expect("demo case readable");
+    let case = load_case_text(&text, path).expect("demo case valid");
+    let plant = Plant::from_case(&case).expect("demo geometry");
+    let normal = run_normal(&plant, None).expect("demo normal run");
+    let mut samples = Vec::with_capacity(repeats);
+    for _ in 0..repeats {
+        let start = Instant::now();
+        let envelope = failure_envelope(&plant, &normal, ENVELOPE_POINTS, None);
+        let elapsed = start.elapsed();
+        match envelope {
+            Ok(points) => std::hint::black_box(points),
+            Err(e) => {
+                return Err(format!(
+                    "failed after {:.0} ms: {e}",
+                    elapsed.as_secs_f64() * 1e3
+                ));
+            }
+        };
+        samples.push(elapsed);
+    }
+    let min = *samples.iter().min().unwrap_or(&Duration::ZERO);
+    Ok((median(samples), min))
+}
+
 fn main() {
     let repeats: usize = std::env::var("EXOSCREEN_BENCH_REPEATS")
         .ok()
         .and_then(|v| v.parse().ok())
         .unwrap_or(20);
     println!(
-        "check (load + validate + normal run + worst-failure search + figures), {repeats} runs each"
+        "check (load + validate + normal run + worst-failure search + figures + envelope), {repeats} runs each"
     );
     for path in CASES {
         let (median, min) = time_case(path, repeats);
@@ -46,5 +77,19 @@ fn main() {
             median.as_secs_f64() * 1e3,
             min.as_secs_f64() * 1e3
         );
+    }
+    let envelope_repeats = repeats.clamp(1, 5);
+    println!(
+        "failure envelope ({ENVELOPE_POINTS} failure times over the process, decomposition on), {envelope_repeats} runs each"
+    );
+    for path in CASES {
+        match time_envelope(path, envelope_repeats) {
+            Ok((median, min)) => println!(
+                "  {path:<45} median {:>8.2} ms   min {:>8.2} ms",
+                median.as_secs_f64() * 1e3,
+                min.as_secs_f64() * 1e3
+            ),
+            Err(why) => println!("  {path:<45} {why}"),
+        }
     }
 }

@@ -2,6 +2,8 @@
 
 use crate::assess::{AssessError, assess};
 use crate::case::{CaseError, load_case_file};
+use crate::report::atomic::write_atomically;
+use crate::report::csv::envelope_csv;
 use crate::report::json::JsonExporter;
 use crate::report::table::TableExporter;
 use crate::report::{Exporter, Source};
@@ -40,6 +42,10 @@ pub struct CheckArgs {
     /// Exit with status 3 when the criticality class is N or above (or cannot be given).
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u8).range(1..=5))]
     pub fail_at_class: Option<u8>,
+    /// Also write the failure envelope (failure times over the whole process, decomposition
+    /// on) to FILE as CSV; written only once everything has been computed.
+    #[arg(long, value_name = "FILE")]
+    pub envelope_csv: Option<PathBuf>,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -57,13 +63,15 @@ pub enum AppError {
     Assess(#[from] AssessError),
     #[error("cannot write the report: {0}")]
     Output(#[from] std::io::Error),
+    #[error("cannot write the envelope to {0}: {1}")]
+    EnvelopeFile(String, std::io::Error),
 }
 
 impl AppError {
     pub fn exit_code(&self) -> u8 {
         match self {
             AppError::Case(_) => 2,
-            AppError::Assess(_) | AppError::Output(_) => 1,
+            AppError::Assess(_) | AppError::Output(_) | AppError::EnvelopeFile(..) => 1,
         }
     }
 }
@@ -91,6 +99,13 @@ fn check(args: &CheckArgs) -> Result<Outcome, AppError> {
         Format::Table => TableExporter.render(&assessment, &source),
         Format::Json => JsonExporter.render(&assessment, &source),
     };
+    if let Some(path) = &args.envelope_csv {
+        if let Some(e) = &assessment.envelope_error {
+            return Err(AssessError::from(e.clone()).into());
+        }
+        write_atomically(path, &envelope_csv(&assessment.envelope))
+            .map_err(|e| AppError::EnvelopeFile(path.display().to_string(), e))?;
+    }
     std::io::stdout().lock().write_all(text.as_bytes())?;
     Ok(gate(args.fail_at_class, assessment.figures.class))
 }

@@ -2,6 +2,7 @@
 
 pub mod class;
 pub mod decomposition;
+pub mod envelope;
 pub mod figures;
 pub mod search;
 pub mod warnings;
@@ -10,6 +11,7 @@ use crate::case::Case;
 use crate::model::plant::Plant;
 use crate::model::scenario::{ScenarioError, Trajectory};
 use crate::warning::Warning;
+pub use envelope::EnvelopePoint;
 pub use figures::{Figures, NormalFigures};
 use std::time::{Duration, Instant};
 
@@ -30,6 +32,10 @@ pub struct Assessment {
     pub plant: Plant,
     pub normal_run: Trajectory,
     pub figures: Figures,
+    /// Cooling failures over the whole process, decomposition on (envelope.rs); empty when
+    /// one of its runs failed, with the reason in `envelope_error` and a warning.
+    pub envelope: Vec<EnvelopePoint>,
+    pub envelope_error: Option<ScenarioError>,
     pub warnings: Vec<Warning>,
 }
 
@@ -37,13 +43,32 @@ pub fn assess(case: Case) -> Result<Assessment, AssessError> {
     let plant = Plant::from_case(&case).map_err(|e| AssessError::Geometry(e.to_string()))?;
     let deadline = Instant::now() + TIME_BUDGET;
     let computation = figures::compute(&plant, Some(deadline))?;
+    // The envelope goes beyond the contract figures: a run it cannot integrate is reported,
+    // and does not take the figures with it.
+    let (envelope, envelope_error) = match envelope::failure_envelope(
+        &plant,
+        &computation.normal_run,
+        envelope::ENVELOPE_POINTS,
+        Some(deadline),
+    ) {
+        Ok(points) => (points, None),
+        Err(e) => (Vec::new(), Some(e)),
+    };
     let mut warnings = case.input_warnings.clone();
     warnings.extend(warnings::figure_warnings(&plant, &computation.figures));
+    warnings.extend(envelope_error.as_ref().map(|e| {
+        Warning::new(
+            "failure-envelope-failed",
+            format!("the failure envelope (decomposition on) could not be computed: {e}"),
+        )
+    }));
     Ok(Assessment {
         case,
         plant,
         normal_run: computation.normal_run,
         figures: computation.figures,
+        envelope,
+        envelope_error,
         warnings,
     })
 }

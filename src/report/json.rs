@@ -41,7 +41,18 @@ struct Report<'a> {
     final_conversion_species: Option<&'a str>,
     failure_dosing: &'static str,
     failure_runs: usize,
+    /// null when a run of the envelope could not be integrated (see the warnings).
+    failure_envelope: Option<Vec<EnvelopeRow>>,
     cautions: &'static [&'static str],
+}
+
+#[allow(non_snake_case)]
+#[derive(Serialize)]
+struct EnvelopeRow {
+    failure_time_h: f64,
+    max_temperature_C: f64,
+    time_to_max_rate_h: f64,
+    max_rate_K_min: f64,
 }
 
 #[allow(non_snake_case)]
@@ -103,6 +114,17 @@ impl Exporter for JsonExporter {
                 Dosing::Stops => "stops",
             },
             failure_runs: f.worst.runs,
+            failure_envelope: a.envelope_error.is_none().then(|| {
+                a.envelope
+                    .iter()
+                    .map(|p| EnvelopeRow {
+                        failure_time_h: p.failure_time / HOUR,
+                        max_temperature_C: celsius(p.max_temperature),
+                        time_to_max_rate_h: p.time_to_max_rate / HOUR,
+                        max_rate_K_min: p.max_rate * 60.0,
+                    })
+                    .collect()
+            }),
             cautions: &CAUTIONS,
         };
         let mut text = serde_json::to_string_pretty(&report)
