@@ -22,6 +22,9 @@ pub struct Phase {
     pub feed_delay: f64,
     /// The contents boil at the solvent's boiling point: T stays, the excess heat evaporates.
     pub boiling: bool,
+    /// The decomposition has run to completion and is switched off (its burnt-out tail is
+    /// stiff): fresh feed then decomposes as it enters, at the temperature reached.
+    pub decomposition_spent: bool,
 }
 
 impl Phase {
@@ -36,6 +39,7 @@ impl Phase {
             feed_interlocked: false,
             feed_delay: 0.0,
             boiling: false,
+            decomposition_spent: false,
         }
     }
 }
@@ -239,6 +243,7 @@ impl Plant {
         let alpha = x[layout.alpha()];
         let decomposition_power = match (&self.decomposition, phase.decomposition_on) {
             (Some(d), true) => mass * d.rate(temperature, alpha),
+            (Some(d), false) if phase.decomposition_spent => feed_rate * d.energy,
             _ => 0.0,
         };
         let cooled_area = if with_area || phase.cooling_on {
@@ -347,6 +352,7 @@ impl Plant {
             (Some(d), true) => {
                 s.decomposition_power / s.mass / d.energy - s.alpha * feed_rate / s.mass
             }
+            (Some(_), false) if phase.decomposition_spent => 0.0,
             _ => -s.alpha * feed_rate / s.mass,
         };
         dx[layout.reaction_heat()] = s.reaction_power;

@@ -263,6 +263,9 @@ fn phase_at(plant: &Plant, switches: &Switches, t: f64, status: &Status) -> Phas
         feed_on: feed_window && !status.interlocked && !(failed && switches.feed_stops_at_failure),
         cooling_on: !failed,
         decomposition_on: switches.decomposition && plant.decomposition.is_some() && !status.spent,
+        decomposition_spent: switches.decomposition
+            && plant.decomposition.is_some()
+            && status.spent,
         t_start: t,
         fed_at_start: status.fed,
         feed_interlocked: status.interlocked,
@@ -367,10 +370,13 @@ fn detect_event(plant: &Plant, phase: &Phase, t: f64, state: &[f64]) -> Option<E
     is_settled(plant, phase, state).then_some(Event::Settled)
 }
 
+/// Signed distance of a state from an event's threshold: crossing zero is the event.
+type EventFunction<'a> = dyn Fn(f64, &[f64]) -> f64 + 'a;
+
 /// Moves the end of `piece` back to where the event's threshold was crossed, found by
 /// bisection on the dense output over the last step.
 fn locate_event(plant: &Plant, piece: &mut Piece, event: Event) {
-    let threshold: Box<dyn Fn(f64, &[f64]) -> f64> = match event {
+    let threshold: Box<EventFunction<'_>> = match event {
         Event::InterlockTrip => {
             let limit = plant.stop_feed_above.unwrap_or(f64::INFINITY);
             Box::new(move |_, x: &[f64]| x[Layout::TEMPERATURE] - limit)
