@@ -1,9 +1,11 @@
 //! `cargo bench`: wall-clock time of the whole `check` computation (load, validate, normal
 //! run, worst-failure search, figures, failure envelope) on the demo cases, median of repeated
-//! runs; then the failure envelope alone (200 failure times, decomposition on) on each case.
+//! runs; then the failure envelope alone (200 failure times, decomposition on) on each case;
+//! then the dosing-limit search (`exoscreen limit`) on the semibatch demo cases.
 
 use exoscreen::assess::assess;
 use exoscreen::assess::envelope::{ENVELOPE_POINTS, failure_envelope};
+use exoscreen::assess::limit::{LimitSettings, dosing_limit};
 use exoscreen::case::load::load_case_text;
 use exoscreen::model::plant::Plant;
 use exoscreen::model::scenario::run_normal;
@@ -92,4 +94,41 @@ fn main() {
             Err(why) => println!("  {path:<45} {why}"),
         }
     }
+    let limit_repeats = repeats.clamp(1, 5);
+    println!("limit (load + validate + the whole dosing-limit search), {limit_repeats} runs each");
+    for path in LIMIT_CASES {
+        let (median, min, runs) = time_limit(path, limit_repeats);
+        println!(
+            "  {path:<45} median {:>8.2} ms   min {:>8.2} ms   ({runs} simulations)",
+            median.as_secs_f64() * 1e3,
+            min.as_secs_f64() * 1e3
+        );
+    }
+}
+
+/// The semibatch demo cases, for the dosing-limit search.
+const LIMIT_CASES: [&str; 4] = [
+    "cases/bromination-semibatch.yaml",
+    "cases/bromination-protected.yaml",
+    "cases/chlorination-accumulating.yaml",
+    "cases/nitration-no-dsc.yaml",
+];
+
+/// The whole `limit` computation: (median, min, full assessments per search).
+fn time_limit(path: &str, repeats: usize) -> (Duration, Duration, usize) {
+    let text = std::fs::read_to_string(path).expect("demo case readable");
+    let mut samples = Vec::with_capacity(repeats);
+    let mut runs = 0;
+    for _ in 0..repeats {
+        let start = Instant::now();
+        let case = load_case_text(&text, path).expect("demo case valid");
+        let plant = Plant::from_case(&case).expect("demo geometry");
+        let limit = dosing_limit(&plant, &LimitSettings::from_case(&case), None)
+            .expect("demo limit computes");
+        runs = limit.runs;
+        std::hint::black_box(&limit);
+        samples.push(start.elapsed());
+    }
+    let min = *samples.iter().min().unwrap_or(&Duration::ZERO);
+    (median(samples), min, runs)
 }

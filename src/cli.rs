@@ -30,6 +30,24 @@ pub enum Command {
     /// simulated MTSR, MTT, TD24, TMRad, criticality class, cooling.
     #[command(after_help = EXIT_CODES)]
     Check(CheckArgs),
+    /// Find the shortest constant-rate feed duration (the fastest dosing) that meets the
+    /// cooling, temperature and off-gas criteria at once, and the coolant the case needs.
+    #[command(after_help = LIMIT_EXIT_CODES)]
+    Limit(LimitArgs),
+}
+
+const LIMIT_EXIT_CODES: &str = "Exit status:
+  0  the search ran (whether or not a feasible feed duration exists)
+  1  the computation itself failed (the message says which scenario and why)
+  2  bad input or usage (the message names file, line, column and key)";
+
+#[derive(Debug, clap::Args)]
+pub struct LimitArgs {
+    /// The case file (YAML, format 1).
+    pub case: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
 }
 
 #[derive(Debug, clap::Args)]
@@ -86,7 +104,33 @@ pub enum Outcome {
 pub fn run(cli: Cli) -> Result<Outcome, AppError> {
     match cli.command {
         Command::Check(args) => check(&args),
+        Command::Limit(args) => limit(&args),
     }
+}
+
+fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
+    use crate::assess::limit::{LIMIT_TIME_BUDGET, LimitSettings, dosing_limit_with_progress};
+    use crate::report::limit::{TerminalProgress, render_json, render_table};
+    let case = load_case_file(&args.case)?;
+    let plant = crate::model::plant::Plant::from_case(&case)
+        .map_err(|e| AssessError::Geometry(e.to_string()))?;
+    let settings = LimitSettings::from_case(&case);
+    let deadline = std::time::Instant::now() + LIMIT_TIME_BUDGET;
+    let mut progress = TerminalProgress::new();
+    let found = dosing_limit_with_progress(&plant, &settings, Some(deadline), &mut |p| {
+        progress.update(p)
+    });
+    progress.finish();
+    let found = found.map_err(AssessError::from)?;
+    let source = Source {
+        file: args.case.display().to_string(),
+    };
+    let text = match args.format {
+        Format::Table => render_table(&found, &case.title, &source),
+        Format::Json => render_json(&found, &case.title, &source),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(Outcome::Computed)
 }
 
 fn check(args: &CheckArgs) -> Result<Outcome, AppError> {

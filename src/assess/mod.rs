@@ -4,6 +4,7 @@ pub mod class;
 pub mod decomposition;
 pub mod envelope;
 pub mod figures;
+pub mod limit;
 pub mod search;
 pub mod warnings;
 

@@ -4,6 +4,7 @@ pub mod atomic;
 pub mod cautions;
 pub mod csv;
 pub mod json;
+pub mod limit;
 pub mod table;
 
 use crate::assess::Assessment;
