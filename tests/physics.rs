@@ -274,7 +274,7 @@ fn isothermal_second_order_batch_follows_hyperbola() {
     let plant = spec.plant();
     let kc0 = 1e-6 * 1000.0;
     let run = run_normal(&plant, None).expect("normal run");
-    let mut points: Vec<(f64, f64)> = run
+    let points: Vec<(f64, f64)> = run
         .samples()
         .map(|s| (s.time, amount(&plant, s.state, "A")))
         .collect();

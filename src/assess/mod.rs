@@ -5,6 +5,8 @@ pub mod decomposition;
 pub mod envelope;
 pub mod figures;
 pub mod limit;
+pub mod offgas;
+pub mod runaway;
 pub mod search;
 pub mod warnings;
 
@@ -37,6 +39,10 @@ pub struct Assessment {
     /// one of its runs failed, with the reason in `envelope_error` and a warning.
     pub envelope: Vec<EnvelopePoint>,
     pub envelope_error: Option<ScenarioError>,
+    /// The full model from the worst failure time (decomposition on, boiling barrier).
+    pub runaway: Option<runaway::Runaway>,
+    /// Peak rate of each gas species in normal operation.
+    pub normal_off_gas: Vec<offgas::SpeciesPeak>,
     pub warnings: Vec<Warning>,
 }
 
@@ -55,8 +61,34 @@ pub fn assess(case: Case) -> Result<Assessment, AssessError> {
         Ok(points) => (points, None),
         Err(e) => (Vec::new(), Some(e)),
     };
+    let runaway = runaway::coupled_runaway(
+        &plant,
+        &computation.normal_run,
+        computation.figures.worst.failure_time,
+        Some(deadline),
+    );
+    let normal_off_gas =
+        offgas::species_peaks(&plant, &computation.normal_run, 0.0, plant.process_duration);
     let mut warnings = case.input_warnings.clone();
     warnings.extend(warnings::figure_warnings(&plant, &computation.figures));
+    let runaway = match runaway {
+        Ok(r) => {
+            warnings.extend(warnings::runaway_warnings(&plant, &r, &case.limit_settings));
+            Some(r)
+        }
+        Err(e) => {
+            warnings.push(Warning::new(
+                "runaway-failed",
+                format!("the coupled runaway (decomposition on) could not be computed: {e}"),
+            ));
+            None
+        }
+    };
+    warnings.extend(warnings::off_gas_warnings(
+        &normal_off_gas,
+        &case.limit_settings,
+        &computation.figures,
+    ));
     warnings.extend(envelope_error.as_ref().map(|e| {
         Warning::new(
             "failure-envelope-failed",
@@ -70,6 +102,8 @@ pub fn assess(case: Case) -> Result<Assessment, AssessError> {
         figures: computation.figures,
         envelope,
         envelope_error,
+        runaway,
+        normal_off_gas,
         warnings,
     })
 }

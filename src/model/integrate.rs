@@ -77,6 +77,35 @@ impl Piece {
         self.states.last().map(Vec::as_slice).unwrap_or(&[])
     }
 
+    /// d(state)/dt at `t`: the derivative of the Hermite interpolant.
+    pub fn derivative_at(&self, t: f64) -> Vec<f64> {
+        let t = t.clamp(self.t_start, self.t_end);
+        let k = self
+            .times
+            .partition_point(|time| *time < t)
+            .clamp(1, self.times.len().max(2) - 1);
+        if self.times.len() < 2 {
+            return self.derivatives[0].clone();
+        }
+        let (t0, t1) = (self.times[k - 1], self.times[k]);
+        let h = t1 - t0;
+        if h <= 0.0 {
+            return self.derivatives[k].clone();
+        }
+        let s = (t - t0) / h;
+        let (d00, d10, d01, d11) = (
+            6.0 * s * s - 6.0 * s,
+            3.0 * s * s - 4.0 * s + 1.0,
+            -6.0 * s * s + 6.0 * s,
+            3.0 * s * s - 2.0 * s,
+        );
+        let (x0, x1) = (&self.states[k - 1], &self.states[k]);
+        let (v0, v1) = (&self.derivatives[k - 1], &self.derivatives[k]);
+        (0..x0.len())
+            .map(|i| (d00 * x0[i] + d01 * x1[i]) / h + d10 * v0[i] + d11 * v1[i])
+            .collect()
+    }
+
     /// Time of the accepted step before the last one (where an event found at the last step
     /// began to be crossed).
     pub fn previous_step_time(&self) -> f64 {
@@ -90,7 +119,7 @@ impl Piece {
         let k = self.times.partition_point(|time| *time < t).max(1);
         let mut state = self.state_at(t);
         adjust(&mut state);
-        let derivative = self.derivatives[k.min(self.derivatives.len() - 1)].clone();
+        let derivative = self.derivative_at(t);
         self.times.truncate(k);
         self.states.truncate(k);
         self.derivatives.truncate(k);

@@ -151,6 +151,8 @@ impl Trajectory {
 
 /// The dosing interlock resets this far below its set point, K (so that it does not chatter).
 pub const INTERLOCK_HYSTERESIS_K: f64 = 1.0;
+/// Relative size of a stretch below which it is round-off, not time.
+const ROUND_OFF: f64 = 1e-12;
 /// More events than this in one run means something chatters: the run is stopped.
 const MAX_EVENTS: usize = 10_000;
 
@@ -310,8 +312,15 @@ fn run(
             found = detect_event(plant, &phase, time, state);
             found.is_some()
         };
+        if stop_at - t <= ROUND_OFF * stop_at.abs().max(1.0) {
+            // A failure time within round-off of a breakpoint: the breakpoint is reached.
+            t = stop_at;
+            continue;
+        }
         let mut piece = integrate_stretch(plant, phase, t, &x, stop_at, Some(&mut rule), deadline)?;
-        let event = found.filter(|_| piece.stopped_early);
+        // An event seen at the last step of the stretch counts too: it was crossed before the
+        // scheduled end.
+        let event = found;
         if let Some(event) = event {
             locate_event(plant, &mut piece, event);
         }

@@ -43,7 +43,45 @@ struct Report<'a> {
     failure_runs: usize,
     /// null when a run of the envelope could not be integrated (see the warnings).
     failure_envelope: Option<Vec<EnvelopeRow>>,
+    /// The full model from the worst failure time; null when it could not be computed.
+    runaway: Option<RunawayReport>,
+    /// The boiling barrier in that run; null without `solvent` data.
+    boiling: Option<BoilingReport>,
+    off_gas: Vec<OffGasReport>,
     cautions: &'static [&'static str],
+}
+
+#[allow(non_snake_case)]
+#[derive(Serialize)]
+struct RunawayReport {
+    failure_time_h: f64,
+    max_temperature_C: f64,
+    time_to_max_rate_h: f64,
+    max_rate_K_min: f64,
+    decomposition_conversion: f64,
+}
+
+#[allow(non_snake_case)]
+#[derive(Serialize)]
+struct BoilingReport {
+    boiling_point_C: f64,
+    boils: bool,
+    starts_after_failure_h: Option<f64>,
+    peak_vapour_rate_mol_s: f64,
+    peak_vapour_rate_kg_h: f64,
+    peak_heat_to_remove_kW: f64,
+    condenser_capacity_kW: Option<f64>,
+    condenser_exceeded: bool,
+    condenser_exceeded_after_failure_h: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct OffGasReport {
+    species: String,
+    normal_peak_mol_s: f64,
+    normal_peak_kg_h: f64,
+    failure_peak_mol_s: Option<f64>,
+    failure_peak_kg_h: Option<f64>,
 }
 
 #[allow(non_snake_case)]
@@ -63,6 +101,7 @@ struct Normal {
     cooling_capacity_at_peak_kW: f64,
     cooling_capacity_at_tp_kW: f64,
     peak_off_gas_kg_h: f64,
+    min_coolant_temperature_C: f64,
     max_temperature_time_h: f64,
     peak_reaction_power_time_h: f64,
     final_decomposition_conversion: f64,
@@ -94,6 +133,7 @@ impl Exporter for JsonExporter {
                 cooling_capacity_at_peak_kW: n.cooling_at_peak / 1e3,
                 cooling_capacity_at_tp_kW: n.cooling_capacity_at_tp / 1e3,
                 peak_off_gas_kg_h: n.peak_off_gas * HOUR,
+                min_coolant_temperature_C: celsius(n.min_coolant_temperature),
                 max_temperature_time_h: n.max_temperature_time / HOUR,
                 peak_reaction_power_time_h: n.peak_time / HOUR,
                 final_decomposition_conversion: n.final_decomposition_conversion,
@@ -125,6 +165,31 @@ impl Exporter for JsonExporter {
                     })
                     .collect()
             }),
+            runaway: a.runaway.as_ref().map(|r| RunawayReport {
+                failure_time_h: r.failure_time / HOUR,
+                max_temperature_C: celsius(r.max_temperature),
+                time_to_max_rate_h: r.time_to_max_rate / HOUR,
+                max_rate_K_min: r.max_rate * 60.0,
+                decomposition_conversion: r.decomposition_conversion,
+            }),
+            boiling: a
+                .runaway
+                .as_ref()
+                .and_then(|r| r.boiling.as_ref())
+                .map(|b| BoilingReport {
+                    boiling_point_C: celsius(b.boiling_point),
+                    boils: b.starts_after.is_some(),
+                    starts_after_failure_h: b.starts_after.map(|t| t / HOUR),
+                    peak_vapour_rate_mol_s: b.peak_vapour_rate_mol_s,
+                    peak_vapour_rate_kg_h: b.peak_vapour_rate_kg_h,
+                    peak_heat_to_remove_kW: b.peak_heat / 1e3,
+                    condenser_capacity_kW: b.condenser_capacity.map(|c| c / 1e3),
+                    condenser_exceeded: b.condenser_exceeded_after.is_some(),
+                    condenser_exceeded_after_failure_h: b
+                        .condenser_exceeded_after
+                        .map(|t| t / HOUR),
+                }),
+            off_gas: off_gas_rows(a),
             cautions: &CAUTIONS,
         };
         let mut text = serde_json::to_string_pretty(&report)
@@ -132,4 +197,23 @@ impl Exporter for JsonExporter {
         text.push('\n');
         text
     }
+}
+
+fn off_gas_rows(a: &Assessment) -> Vec<OffGasReport> {
+    a.normal_off_gas
+        .iter()
+        .map(|normal| {
+            let failure = a
+                .runaway
+                .as_ref()
+                .and_then(|r| r.off_gas.iter().find(|p| p.species == normal.species));
+            OffGasReport {
+                species: normal.species.clone(),
+                normal_peak_mol_s: normal.peak_mol_s,
+                normal_peak_kg_h: normal.peak_kg_h,
+                failure_peak_mol_s: failure.map(|p| p.peak_mol_s),
+                failure_peak_kg_h: failure.map(|p| p.peak_kg_h),
+            }
+        })
+        .collect()
 }

@@ -118,7 +118,12 @@ fn case_table(a: &Assessment) -> Table {
     }
     let jacket = match p.jacket {
         Jacket::Constant(t) => format!("coolant {:.1} degC (constant)", celsius(t)),
-        Jacket::Hold { minimum, maximum, lag, .. } => format!(
+        Jacket::Hold {
+            minimum,
+            maximum,
+            lag,
+            ..
+        } => format!(
             "jacket held at Tp within {:.1} .. {:.1} degC, lag {:.1} min",
             celsius(minimum),
             celsius(maximum),
@@ -127,15 +132,30 @@ fn case_table(a: &Assessment) -> Table {
     };
     t.add_row(vec![
         "temperatures".to_string(),
-        format!("Tp {:.1} degC, {jacket}, MTT {:.1} degC", celsius(p.process_temperature), celsius(p.mtt)),
+        format!(
+            "Tp {:.1} degC, {jacket}, MTT {:.1} degC",
+            celsius(p.process_temperature),
+            celsius(p.mtt)
+        ),
     ]);
     let mut protections = Vec::new();
     if let Some(limit) = p.stop_feed_above {
-        protections.push(format!("dosing interlock: feed stops above {:.1} degC", celsius(limit)));
+        protections.push(format!(
+            "dosing interlock: feed stops above {:.1} degC",
+            celsius(limit)
+        ));
     }
     if let Some(b) = &p.boiling {
-        let condenser = b.condenser_capacity.map_or("no condenser given".to_string(), |c| format!("condenser {:.0} kW", c / 1e3));
-        protections.push(format!("solvent boils at {:.1} degC ({:.1} kJ/mol), {condenser}", celsius(b.boiling_point), b.heat_of_vaporisation / 1e3));
+        let condenser = b
+            .condenser_capacity
+            .map_or("no condenser given".to_string(), |c| {
+                format!("condenser {:.0} kW", c / 1e3)
+            });
+        protections.push(format!(
+            "solvent boils at {:.1} degC ({:.1} kJ/mol), {condenser}",
+            celsius(b.boiling_point),
+            b.heat_of_vaporisation / 1e3
+        ));
     }
     if !protections.is_empty() {
         t.add_row(vec!["protections".to_string(), protections.join("; ")]);
@@ -314,21 +334,66 @@ fn figures_table(a: &Assessment) -> Table {
 fn after_failure(a: &Assessment) -> String {
     let mut out = String::new();
     if let Some(r) = &a.runaway {
-        out.push_str(&format!("\nAFTER THE WORST COOLING FAILURE ({:.2} h), FULL MODEL WITH THE DECOMPOSITION\n", r.failure_time / HOUR));
+        out.push_str(&format!(
+            "\nAFTER THE WORST COOLING FAILURE ({:.2} h), FULL MODEL WITH THE DECOMPOSITION\n",
+            r.failure_time / HOUR
+        ));
         let mut t = new_table(&["figure", "value", "unit", "basis"]);
-        row(&mut t, "maximum temperature", format!("{:.1}", celsius(r.max_temperature)), "degC", format!("followed {:.1} h", a.plant.failure_horizon / HOUR));
-        row(&mut t, "time to maximum rate", format!("{:.2}", r.time_to_max_rate / HOUR), "h", format!("from the failure; max rate {:.3} K/min", r.max_rate * 60.0));
-        row(&mut t, "decomposition conversion", format!("{:.1}", 100.0 * r.decomposition_conversion), "%", "at the end of the run".to_string());
+        row(
+            &mut t,
+            "maximum temperature",
+            format!("{:.1}", celsius(r.max_temperature)),
+            "degC",
+            format!("followed {:.1} h", a.plant.failure_horizon / HOUR),
+        );
+        row(
+            &mut t,
+            "time to maximum rate",
+            format!("{:.2}", r.time_to_max_rate / HOUR),
+            "h",
+            format!("from the failure; max rate {:.3} K/min", r.max_rate * 60.0),
+        );
+        row(
+            &mut t,
+            "decomposition conversion",
+            format!("{:.1}", 100.0 * r.decomposition_conversion),
+            "%",
+            "at the end of the run".to_string(),
+        );
         if let Some(b) = &r.boiling {
-            let start = b.starts_after.map_or("does not boil".to_string(), |s| format!("{:.2}", s / HOUR));
-            row(&mut t, "boiling starts", start, "h", format!("after the failure, at {:.1} degC", celsius(b.boiling_point)));
-            row(&mut t, "peak vapour rate", format!("{:.0}", b.peak_vapour_rate_kg_h), "kg/h", format!("{:.2} mol/s", b.peak_vapour_rate_mol_s));
+            let start = b
+                .starts_after
+                .map_or("does not boil".to_string(), |s| format!("{:.2}", s / HOUR));
+            row(
+                &mut t,
+                "boiling starts",
+                start,
+                "h",
+                format!("after the failure, at {:.1} degC", celsius(b.boiling_point)),
+            );
+            row(
+                &mut t,
+                "peak vapour rate",
+                format!("{:.0}", b.peak_vapour_rate_kg_h),
+                "kg/h",
+                format!("{:.2} mol/s", b.peak_vapour_rate_mol_s),
+            );
             let condenser = match (b.condenser_capacity, b.condenser_exceeded_after) {
-                (Some(c), Some(when)) => format!("exceeds the condenser ({:.0} kW) {:.2} h after the failure", c / 1e3, when / HOUR),
+                (Some(c), Some(when)) => format!(
+                    "exceeds the condenser ({:.0} kW) {:.2} h after the failure",
+                    c / 1e3,
+                    when / HOUR
+                ),
                 (Some(c), None) => format!("within the condenser ({:.0} kW)", c / 1e3),
                 (None, _) => "no condenser given".to_string(),
             };
-            row(&mut t, "peak heat to condense", format!("{:.0}", b.peak_heat / 1e3), "kW", condenser);
+            row(
+                &mut t,
+                "peak heat to condense",
+                format!("{:.0}", b.peak_heat / 1e3),
+                "kW",
+                condenser,
+            );
         }
         out.push_str(&t.to_string());
         out.push('\n');
@@ -337,11 +402,19 @@ fn after_failure(a: &Assessment) -> String {
         out.push_str("\nOFF-GAS (peak rates)\n");
         let mut t = new_table(&["species", "normal operation", "after the worst failure"]);
         for normal in &a.normal_off_gas {
-            let failure = a.runaway.as_ref().and_then(|r| r.off_gas.iter().find(|p| p.species == normal.species));
+            let failure = a
+                .runaway
+                .as_ref()
+                .and_then(|r| r.off_gas.iter().find(|p| p.species == normal.species));
             t.add_row(vec![
                 normal.species.clone(),
-                format!("{:.1} kg/h ({:.3} mol/s)", normal.peak_kg_h, normal.peak_mol_s),
-                failure.map_or("—".to_string(), |p| format!("{:.1} kg/h ({:.3} mol/s)", p.peak_kg_h, p.peak_mol_s)),
+                format!(
+                    "{:.1} kg/h ({:.3} mol/s)",
+                    normal.peak_kg_h, normal.peak_mol_s
+                ),
+                failure.map_or("—".to_string(), |p| {
+                    format!("{:.1} kg/h ({:.3} mol/s)", p.peak_kg_h, p.peak_mol_s)
+                }),
             ]);
         }
         out.push_str(&t.to_string());
