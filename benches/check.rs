@@ -1,18 +1,21 @@
-//! `cargo bench`: wall-clock time of the whole `check` computation (load, validate, normal
+//! `cargo bench`: wall-clock time of the screening figures alone (load, validate, normal run,
+//! worst-failure search, figures: the contract's part of `check`), then of the whole `check` computation (load, validate, normal
 //! run, worst-failure search, figures, failure envelope) on the demo cases, median of repeated
 //! runs; then the failure envelope alone (200 failure times, decomposition on) on each case;
 //! then the dosing-limit search (`exoscreen limit`) on the semibatch demo cases.
 
 use exoscreen::assess::assess;
 use exoscreen::assess::envelope::{ENVELOPE_POINTS, failure_envelope};
+use exoscreen::assess::figures::compute;
 use exoscreen::assess::limit::{LimitSettings, dosing_limit};
 use exoscreen::case::load::load_case_text;
 use exoscreen::model::plant::Plant;
 use exoscreen::model::scenario::run_normal;
 use std::time::{Duration, Instant};
 
-const CASES: [&str; 4] = [
+const CASES: [&str; 5] = [
     "cases/bromination-semibatch.yaml",
+    "cases/bromination-protected.yaml",
     "cases/chlorination-accumulating.yaml",
     "cases/batch-elliptical.yaml",
     "cases/nitration-no-dsc.yaml",
@@ -21,6 +24,22 @@ const CASES: [&str; 4] = [
 fn median(mut samples: Vec<Duration>) -> Duration {
     samples.sort();
     samples[samples.len() / 2]
+}
+
+/// Load, validate, normal run, worst-failure search and figures: (median, min).
+fn time_figures(path: &str, repeats: usize) -> (Duration, Duration) {
+    let text = std::fs::read_to_string(path).expect("demo case readable");
+    let mut samples = Vec::with_capacity(repeats);
+    for _ in 0..repeats {
+        let start = Instant::now();
+        let case = load_case_text(&text, path).expect("demo case valid");
+        let plant = Plant::from_case(&case).expect("demo geometry");
+        let computation = compute(&plant, None).expect("demo case computes");
+        std::hint::black_box(&computation.figures);
+        samples.push(start.elapsed());
+    }
+    let min = *samples.iter().min().unwrap_or(&Duration::ZERO);
+    (median(samples), min)
 }
 
 fn time_case(path: &str, repeats: usize) -> (Duration, Duration) {
@@ -70,8 +89,17 @@ fn main() {
         .and_then(|v| v.parse().ok())
         .unwrap_or(20);
     println!(
-        "check (load + validate + normal run + worst-failure search + figures + envelope), {repeats} runs each"
+        "figures (load + validate + normal run + worst-failure search + figures), {repeats} runs each"
     );
+    for path in CASES {
+        let (median, min) = time_figures(path, repeats);
+        println!(
+            "  {path:<45} median {:>8.2} ms   min {:>8.2} ms",
+            median.as_secs_f64() * 1e3,
+            min.as_secs_f64() * 1e3
+        );
+    }
+    println!("check (figures + failure envelope + coupled runaway + off-gas), {repeats} runs each");
     for path in CASES {
         let (median, min) = time_case(path, repeats);
         println!(
