@@ -188,6 +188,10 @@ const CORPUS: &[(&str, Expect)] = &[
         "temperature-below-absolute-zero.yaml",
         Errors(&[("coolant.temperature", 38, "below absolute zero")]),
     ),
+    (
+        "temperature-above-range.yaml",
+        Errors(&[("feed.temperature", 18, "above 1000 degC")]),
+    ),
     ("top-level-list.yaml", Errors(&[("", 1, "holds a list")])),
     (
         "two-documents.yaml",

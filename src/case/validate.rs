@@ -151,6 +151,9 @@ const HEAT_OF_VAPORISATION: Kind = kind(
     Sign::Positive,
 );
 
+/// Highest temperature accepted in a case, K (1000 degC): far above any liquid-phase process.
+const MAX_LIQUID_TEMPERATURE_K: f64 = 1273.15;
+
 /// The activation energies outside this range are questionable (kJ/mol).
 const PLAUSIBLE_ACTIVATION_KJ_MOL: (f64, f64) = (20.0, 400.0);
 
@@ -441,6 +444,17 @@ impl Checker<'_> {
             Sign::NonNegative => (value >= 0.0, "zero or more"),
             Sign::Positive => (value > 0.0, "more than zero"),
         };
+        if ok && kind.absolute_temperature && value > MAX_LIQUID_TEMPERATURE_K {
+            self.error(
+                path,
+                format!(
+                    "{} is above 1000 degC: no liquid-phase process this model follows runs there",
+                    quoted(&scalar.0)
+                ),
+                format!("a temperature up to 1000 degC, e.g. \"{}\"", kind.example),
+            );
+            return None;
+        }
         if ok {
             return Some(value);
         }
