@@ -48,6 +48,8 @@ pub struct NormalFigures {
     pub peak_off_gas: f64,
     /// The coldest the jacket was in normal operation, K (hold mode: what holding Tp takes).
     pub min_coolant_temperature: f64,
+    /// Off-gas mass formed by the end of normal operation, kg.
+    pub final_gas_mass: f64,
     pub final_decomposition_conversion: f64,
 }
 
@@ -141,6 +143,10 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
             * (plant.process_temperature - plant.coldest_coolant_temperature()),
         peak_off_gas,
         min_coolant_temperature: -min_coolant,
+        final_gas_mass: {
+            let (phase, state) = run.state_at(end);
+            plant.snapshot(&phase, end, &state).gas_mass
+        },
         final_decomposition_conversion: state_end[plant.layout().alpha()],
     }
 }

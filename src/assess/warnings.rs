@@ -6,6 +6,7 @@ use super::offgas::SpeciesPeak;
 use super::runaway::Runaway;
 use crate::case::Dosing;
 use crate::case::LimitSettings;
+use crate::model::network::GAS_CONSTANT;
 use crate::model::plant::Plant;
 use crate::warning::Warning;
 
@@ -19,7 +20,54 @@ pub fn figure_warnings(plant: &Plant, f: &Figures) -> Vec<Warning> {
     cooling(plant, f, &mut out);
     limits(plant, f, &mut out);
     normal_operation(plant, f, &mut out);
+    model_range(plant, f, &mut out);
     out
+}
+
+/// Below this Semenov/Frank-Kamenetskii number B the zero-order TMRad is far from the
+/// real time to maximum rate (its consumption correction n/B exceeds 10 %).
+const MIN_TOWNSEND_TOU_B: f64 = 10.0;
+/// Reaction orders above this are outside what a power-law rate usually describes.
+const MAX_PLAUSIBLE_ORDER: f64 = 3.0;
+/// Share of the contents' mass leaving as off-gas beyond which the balance's constant
+/// properties and instant degassing are doubtful.
+const MAX_OFF_GAS_SHARE: f64 = 0.3;
+
+/// Where a model is used outside what it is valid for.
+fn model_range(plant: &Plant, f: &Figures, out: &mut Vec<Warning>) {
+    if let Some(d) = &plant.decomposition {
+        let cp = f.final_heat_capacity / f.final_mass;
+        let rise = d.energy / cp;
+        let b = d.activation_energy * rise / (GAS_CONSTANT * f.mtsr * f.mtsr);
+        if b < MIN_TOWNSEND_TOU_B {
+            out.push(Warning::new(
+                "tmrad-low-b",
+                format!("B = Ea dT_ad,d / (R MTSR^2) = {b:.1} is below {MIN_TOWNSEND_TOU_B:.0}: the zero-order TMRad (Townsend and Tou) is far from the real time to maximum rate here; follow the runaway run instead"),
+            ));
+        }
+        if d.order == 0.0 {
+            out.push(Warning::new(
+                "decomposition-zero-order",
+                "the decomposition is zero order: if it is autocatalytic (an induction time, a rate that grows with conversion), TMRad and TD24 from this model are not valid",
+            ));
+        }
+    }
+    for (j, law) in plant.network.reactions.iter().enumerate() {
+        let overall: f64 = law.orders.iter().map(|(_, o)| o).sum();
+        if overall > MAX_PLAUSIBLE_ORDER {
+            out.push(Warning::new(
+                "reaction-order-high",
+                format!("reactions[{j}] has an overall order {overall} above {MAX_PLAUSIBLE_ORDER:.0}: check the rate law"),
+            ));
+        }
+    }
+    let gas_share = f.normal.final_gas_mass / f.final_mass;
+    if gas_share > MAX_OFF_GAS_SHARE {
+        out.push(Warning::new(
+            "off-gas-share-high",
+            format!("{:.0} % of the contents' mass leaves as off-gas in normal operation: constant properties and instant degassing are doubtful", 100.0 * gas_share),
+        ));
+    }
 }
 
 fn c(kelvin: f64) -> f64 {

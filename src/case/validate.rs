@@ -15,6 +15,7 @@ use super::{
     JacketControl, LimitSettings, RateConstant, Reaction, Solvent, SpeciesData, Vessel,
 };
 use crate::model::network::{Network, releasable_heat_is_bounded};
+use crate::model::plant::Plant;
 use crate::model::vessel::VesselGeometry;
 use crate::warning::Warning;
 use std::collections::BTreeMap;
@@ -1453,6 +1454,7 @@ impl Checker<'_> {
         self.species_use(case);
         self.vessel_fit(case);
         self.network_bounded(case);
+        self.off_gas_fits(case);
         self.temperature_order(case);
     }
 
@@ -1572,6 +1574,44 @@ impl Checker<'_> {
         }
         if geometry.level(case.charge.volume_m3()) < geometry.bottom_depth() {
             self.warn("fill-below-bottom-head", "the initial charge does not fill the bottom head; the wetted area and heat transfer at low fill are uncertain");
+        }
+    }
+
+    /// The off-gas a single reaction can make at full conversion must leave a positive
+    /// heat capacity: otherwise the molar masses cannot all be right.
+    fn off_gas_fits(&mut self, case: &Case) {
+        let network = Network::from_case(case);
+        let [law] = network.reactions.as_slice() else {
+            return;
+        };
+        let totals = Plant::from_case(case)
+            .map(|p| p.recipe_amounts())
+            .unwrap_or_default();
+        let extent = (0..network.species_count())
+            .filter(|i| law.nu[*i] < 0.0 && !network.gas[*i])
+            .map(|i| totals.get(i).copied().unwrap_or(0.0) / -law.nu[i])
+            .fold(f64::INFINITY, f64::min);
+        if !extent.is_finite() {
+            return;
+        }
+        let gas_mass: f64 = (0..network.species_count())
+            .filter(|i| network.gas[*i] && law.nu[*i] > 0.0)
+            .map(|i| law.nu[i] * extent * network.molar_mass[i])
+            .sum();
+        let charge = &case.charge;
+        let cp = charge.specific_heat.get::<joule_per_kilogram_kelvin>();
+        let final_mass = charge.mass.get::<kilogram>()
+            + case.feed.as_ref().map_or(0.0, |f| f.mass.get::<kilogram>());
+        let final_c = charge.mass.get::<kilogram>() * cp
+            + case.feed.as_ref().map_or(0.0, |f| {
+                f.mass.get::<kilogram>() * f.specific_heat.get::<joule_per_kilogram_kelvin>()
+            });
+        if gas_mass >= final_mass || final_c - gas_mass * cp <= 0.0 {
+            self.error(
+                "species",
+                format!("at full conversion the off-gas would weigh {gas_mass:.0} kg of the {final_mass:.0} kg of contents and leave no heat capacity: the molar masses of the gas species, the amounts and the masses do not fit together"),
+                "molar masses and amounts whose off-gas is a part of the contents' mass",
+            );
         }
     }
 
