@@ -2,13 +2,12 @@
 //! display on the terminal.
 
 use super::cautions::CAUTIONS;
-use super::{Source, celsius};
+use super::{Source, cautions_section, celsius, new_table};
 use crate::assess::limit::{
     COLDEST_COOLANT_K, Check, Criterion, DURATION_TOLERANCE, DosingLimit, Evaluation, Progress,
     RequiredCoolant, SCAN_RATIO, Stage,
 };
-use comfy_table::presets::UTF8_FULL_CONDENSED;
-use comfy_table::{Cell, CellAlignment, ContentArrangement, Table};
+use comfy_table::{Cell, CellAlignment, Table};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use serde::Serialize;
 use std::io::IsTerminal;
@@ -64,21 +63,8 @@ pub fn render_table(limit: &DosingLimit, title: &str, source: &Source) -> String
             out.push_str(&format!("  - {line}\n"));
         }
     }
-    out.push_str("\nCAUTIONS\n");
-    for c in CAUTIONS {
-        out.push_str(&format!("  - {c}\n"));
-    }
+    out.push_str(&cautions_section());
     out
-}
-
-fn new_table(header: &[&str]) -> Table {
-    let mut table = Table::new();
-    table
-        .load_style(UTF8_FULL_CONDENSED)
-        .set_content_arrangement(ContentArrangement::Dynamic)
-        .set_width(110)
-        .set_header(header.to_vec());
-    table
 }
 
 fn result_table(limit: &DosingLimit) -> Table {

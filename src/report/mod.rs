@@ -24,3 +24,23 @@ pub trait Exporter {
 pub fn celsius(kelvin: f64) -> f64 {
     kelvin - 273.15
 }
+
+/// A terminal table in the reports' one style.
+pub(crate) fn new_table(header: &[&str]) -> comfy_table::Table {
+    let mut table = comfy_table::Table::new();
+    table
+        .load_style(comfy_table::presets::UTF8_FULL_CONDENSED)
+        .set_content_arrangement(comfy_table::ContentArrangement::Dynamic)
+        .set_width(110)
+        .set_header(header.to_vec());
+    table
+}
+
+/// The cautions as the closing section of a terminal report.
+pub(crate) fn cautions_section() -> String {
+    let mut out = String::from("\nCAUTIONS\n");
+    for c in cautions::CAUTIONS {
+        out.push_str(&format!("  - {c}\n"));
+    }
+    out
+}

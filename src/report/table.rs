@@ -1,14 +1,12 @@
 //! The terminal report: the case in brief, the figures with their units and basis, the class
 //! and what it means, the warnings and the cautions.
 
-use super::cautions::CAUTIONS;
-use super::{Exporter, Source, celsius};
+use super::{Exporter, Source, cautions_section, celsius, new_table};
 use crate::assess::Assessment;
 use crate::assess::class::class_meaning;
 use crate::case::Dosing;
 use crate::model::plant::Jacket;
-use comfy_table::presets::UTF8_FULL_CONDENSED;
-use comfy_table::{Cell, CellAlignment, ContentArrangement, Table};
+use comfy_table::{Cell, CellAlignment, Table};
 
 pub struct TableExporter;
 
@@ -37,22 +35,9 @@ impl Exporter for TableExporter {
         for w in &a.warnings {
             out.push_str(&format!("  ! [{}] {}\n", w.code, w.message));
         }
-        out.push_str("\nCAUTIONS\n");
-        for c in CAUTIONS {
-            out.push_str(&format!("  - {c}\n"));
-        }
+        out.push_str(&cautions_section());
         out
     }
-}
-
-fn new_table(header: &[&str]) -> Table {
-    let mut table = Table::new();
-    table
-        .load_style(UTF8_FULL_CONDENSED)
-        .set_content_arrangement(ContentArrangement::Dynamic)
-        .set_width(110)
-        .set_header(header.to_vec());
-    table
 }
 
 fn case_table(a: &Assessment) -> Table {
