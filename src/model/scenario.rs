@@ -303,6 +303,11 @@ fn run(
     let (mut t, mut x) = (t0, x0);
     for _ in 0..MAX_EVENTS {
         if t >= t_end {
+            if pieces.is_empty() {
+                // A run holds at least its starting point, even with no time to run.
+                let phase = phase_at(plant, &switches, t0, &status);
+                pieces.push(integrate_stretch(plant, phase, t0, &x, t0, None, deadline)?);
+            }
             return Ok(Trajectory { pieces });
         }
         let phase = phase_at(plant, &switches, t, &status);
