@@ -2,9 +2,8 @@
 //! output, and messages that place the error (file:LINE:COL:), name its key path and say
 //! what is wrong. One file (valid-anchors-aliases.yaml) is valid and must compute.
 
-use assert_cmd::Command;
 use std::collections::BTreeSet;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 /// What the run of one corpus file must report.
 enum Expect {
@@ -252,36 +251,13 @@ const CORPUS: &[(&str, Expect)] = &[
     ),
 ];
 
-const DEMO: &str = "cases/bromination-semibatch.yaml";
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn exoscreen() -> Command {
-    let mut command = Command::cargo_bin("exoscreen").expect("the exoscreen binary is built");
-    command.current_dir(root());
-    command
-}
-
-struct Run {
-    code: Option<i32>,
-    stdout: String,
-    stderr: String,
-}
+mod common;
+use common::{DEMO, Run, root};
 
 fn check(path: &str, extra: &[&str]) -> Run {
-    let output = exoscreen()
-        .arg("check")
-        .arg(path)
-        .args(extra)
-        .output()
-        .expect("exoscreen runs");
-    Run {
-        code: output.status.code(),
-        stdout: String::from_utf8_lossy(&output.stdout).into_owned(),
-        stderr: String::from_utf8_lossy(&output.stderr).into_owned(),
-    }
+    let mut args = vec!["check", path];
+    args.extend_from_slice(extra);
+    common::run(&args)
 }
 
 /// One placed error line of stderr: `file:LINE:COL: [path: ]message; accepted: ...`.

@@ -1,36 +1,11 @@
 //! The command line: exit statuses, the stage gate (--fail-at-class), --help, and the JSON
 //! report of every demo case against the keys of the model's JSON contract.
 
-use assert_cmd::Command;
 use serde_json::Value;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
-const DEMO: &str = "cases/bromination-semibatch.yaml";
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn exoscreen() -> Command {
-    let mut command = Command::cargo_bin("exoscreen").expect("the exoscreen binary is built");
-    command.current_dir(root());
-    command
-}
-
-struct Run {
-    code: Option<i32>,
-    stdout: String,
-    stderr: String,
-}
-
-fn run(args: &[&str]) -> Run {
-    let output = exoscreen().args(args).output().expect("exoscreen runs");
-    Run {
-        code: output.status.code(),
-        stdout: String::from_utf8_lossy(&output.stdout).into_owned(),
-        stderr: String::from_utf8_lossy(&output.stderr).into_owned(),
-    }
-}
+mod common;
+use common::{DEMO, Run, root, run};
 
 fn json_of(run: &Run, what: &str) -> Value {
     serde_json::from_str(&run.stdout)
