@@ -483,10 +483,11 @@ fn shortened(text: &str) -> String {
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
 
-    fn errors(text: &str) -> Vec<InputError> {
+    /// The input errors of a case that must not load (shared by the case layer's tests).
+    pub(crate) fn errors(text: &str) -> Vec<InputError> {
         match load_case_text(text, "t.yaml") {
             Err(CaseError::Invalid(errors)) => errors,
             other => panic!("expected input errors, got {other:?}"),

@@ -1729,16 +1729,8 @@ impl Charge {
 
 #[cfg(test)]
 mod tests {
-    use crate::case::CaseError;
     use crate::case::error::InputError;
-    use crate::case::load::load_case_text;
-
-    fn errors(text: &str) -> Vec<InputError> {
-        match load_case_text(text, "t.yaml") {
-            Err(CaseError::Invalid(errors)) => errors,
-            other => panic!("expected input errors, got {other:?}"),
-        }
-    }
+    use crate::case::load::tests::errors;
 
     fn error_at<'e>(errors: &'e [InputError], path: &str) -> &'e InputError {
         errors
