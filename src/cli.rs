@@ -1,6 +1,6 @@
 //! The command line: `exoscreen check CASE`, its options, and what each outcome exits with.
 
-use crate::assess::{AssessError, assess};
+use crate::assess::{AssessError, assess_within};
 use crate::case::{CaseError, load_case_file};
 use crate::report::atomic::write_atomically;
 use crate::report::csv::envelope_csv;
@@ -48,6 +48,20 @@ pub struct LimitArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
+    /// Wall-clock budget of the whole search, seconds; past it the search ends with exit
+    /// status 1.
+    #[arg(long, value_name = "SECONDS", default_value_t = crate::assess::limit::LIMIT_TIME_BUDGET.as_secs_f64(), value_parser = positive_seconds)]
+    pub time_budget: f64,
+}
+
+/// A budget in seconds: a positive finite number, at most a day.
+fn positive_seconds(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(s) if s.is_finite() && s > 0.0 && s <= 86_400.0 => Ok(s),
+        _ => Err(format!(
+            "expected a number of seconds above 0 and at most 86400, found {text:?}"
+        )),
+    }
 }
 
 #[derive(Debug, clap::Args)]
@@ -57,6 +71,10 @@ pub struct CheckArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
+    /// Wall-clock budget of the whole computation, seconds; past it the run ends with exit
+    /// status 1 and a message naming the scenario.
+    #[arg(long, value_name = "SECONDS", default_value_t = crate::assess::TIME_BUDGET.as_secs_f64(), value_parser = positive_seconds)]
+    pub time_budget: f64,
     /// Exit with status 3 when the criticality class is N or above (or cannot be given).
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u8).range(1..=5))]
     pub fail_at_class: Option<u8>,
@@ -109,13 +127,13 @@ pub fn run(cli: Cli) -> Result<Outcome, AppError> {
 }
 
 fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
-    use crate::assess::limit::{LIMIT_TIME_BUDGET, LimitSettings, dosing_limit_with_progress};
+    use crate::assess::limit::{LimitSettings, dosing_limit_with_progress};
     use crate::report::limit::{TerminalProgress, render_json, render_table};
     let case = load_case_file(&args.case)?;
     let plant = crate::model::plant::Plant::from_case(&case)
         .map_err(|e| AssessError::Geometry(e.to_string()))?;
     let settings = LimitSettings::from_case(&case);
-    let deadline = std::time::Instant::now() + LIMIT_TIME_BUDGET;
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs_f64(args.time_budget);
     let mut progress = TerminalProgress::new();
     let found = dosing_limit_with_progress(&plant, &settings, Some(deadline), &mut |p| {
         progress.update(p)
@@ -135,7 +153,7 @@ fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
 
 fn check(args: &CheckArgs) -> Result<Outcome, AppError> {
     let case = load_case_file(&args.case)?;
-    let assessment = assess(case)?;
+    let assessment = assess_within(case, std::time::Duration::from_secs_f64(args.time_budget))?;
     let source = Source {
         file: args.case.display().to_string(),
     };

@@ -123,12 +123,14 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
     let temperature = |_: &Phase, _: f64, x: &[f64]| x[Layout::TEMPERATURE];
     let (max_temperature_time, max_temperature) = run.maximum(0.0, end, &temperature);
     let power = |phase: &Phase, t: f64, x: &[f64]| plant.snapshot(phase, t, x).reaction_power;
-    let (peak_time, peak_reaction_power) = run.maximum(0.0, end, &power);
+    let released = |x: &[f64]| x[plant.layout().reaction_heat()];
+    let (peak_time, peak_reaction_power) = run.peak_rate(0.0, end, &power, &released);
     let (phase, state) = run.state_at(peak_time);
     let at_peak = plant.snapshot(&phase, peak_time, &state);
     let (_, state_end) = run.state_at(end);
     let off_gas = |phase: &Phase, t: f64, x: &[f64]| plant.snapshot(phase, t, x).off_gas_rate;
-    let (_, peak_off_gas) = run.maximum(0.0, end, &off_gas);
+    let gas_formed = |x: &[f64]| plant.gas_mass(x);
+    let (_, peak_off_gas) = run.peak_rate(0.0, end, &off_gas, &gas_formed);
     let coolant =
         |phase: &Phase, t: f64, x: &[f64]| -plant.snapshot(phase, t, x).coolant_temperature;
     let (_, min_coolant) = run.maximum(0.0, end, &coolant);

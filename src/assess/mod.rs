@@ -46,9 +46,16 @@ pub struct Assessment {
     pub warnings: Vec<Warning>,
 }
 
+/// Assesses a case within the default wall-clock budget.
 pub fn assess(case: Case) -> Result<Assessment, AssessError> {
+    assess_within(case, TIME_BUDGET)
+}
+
+/// Assesses a case; a computation that runs past `budget` ends with an error that names the
+/// scenario (every integration also has its own step budget).
+pub fn assess_within(case: Case, budget: Duration) -> Result<Assessment, AssessError> {
     let plant = Plant::from_case(&case).map_err(|e| AssessError::Geometry(e.to_string()))?;
-    let deadline = Instant::now() + TIME_BUDGET;
+    let deadline = Instant::now() + budget;
     let computation = figures::compute(&plant, Some(deadline))?;
     // The envelope goes beyond the contract figures: a run it cannot integrate is reported,
     // and does not take the figures with it.

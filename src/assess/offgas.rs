@@ -27,7 +27,8 @@ pub fn species_peaks(plant: &Plant, run: &Trajectory, from: f64, to: f64) -> Vec
                     .find(|(j, _)| *j == i)
                     .map_or(0.0, |(_, r)| r)
             };
-            let (time, peak) = run.maximum(from, to, &rate);
+            let formed = |x: &[f64]| x[plant.layout().amount(i)];
+            let (time, peak) = run.peak_rate(from, to, &rate, &formed);
             SpeciesPeak {
                 species: net.species[i].clone(),
                 peak_mol_s: peak.max(0.0),

@@ -171,7 +171,7 @@ impl Plant {
         }
     }
 
-    fn gas_mass(&self, x: &[f64]) -> f64 {
+    pub fn gas_mass(&self, x: &[f64]) -> f64 {
         let layout = self.layout();
         let net = &self.network;
         (0..net.species_count())

@@ -22,16 +22,29 @@ pub const RELATIVE_TOLERANCE: f64 = 1e-9;
 pub const ABSOLUTE_TOLERANCE: f64 = 1e-11;
 /// Accepted steps allowed in one stretch, for each method.
 pub const MAX_STEPS: u32 = 400_000;
+/// Explicit steps of one stretch before the stiff method takes over: the demo cases need at
+/// most about 3 000; a stretch far beyond that is stiff even where Dopri5's own test (which
+/// looks at h times the dominant eigenvalue estimate) does not say so.
+pub const MAX_EXPLICIT_STEPS: u32 = 20_000;
 /// Dopri5 tests for stiffness every this many steps (and every step once it suspects it).
 const STIFFNESS_CHECK_INTERVAL: u32 = 100;
 
-/// Why a stretch could not be integrated.
+/// What stopped a stretch.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FailureKind {
+    TooManySteps,
+    StepSizeUnderflow,
+    OutOfTime,
+    NotFinite,
+    TooManyEvents,
+}
+
+/// Why a stretch could not be integrated, where, and the last state it reached.
 #[derive(Debug, Clone, PartialEq)]
-pub enum IntegrationFailure {
-    TooManySteps { at_time: f64 },
-    StepSizeUnderflow { at_time: f64 },
-    OutOfTime { at_time: f64 },
-    NotFinite { at_time: f64 },
+pub struct IntegrationFailure {
+    pub kind: FailureKind,
+    pub at_time: f64,
+    pub state: Vec<f64>,
 }
 
 /// The result of one stretch: accepted steps with their derivatives (physical units).
@@ -49,7 +62,8 @@ pub struct Piece {
 }
 
 impl Piece {
-    /// The state at `t` within the stretch: cubic Hermite interpolation between the steps.
+    /// The state at `t` within the stretch: cubic Hermite interpolation between the steps
+    /// (monotone on stretches that needed the stiff method, see `segment`).
     pub fn state_at(&self, t: f64) -> Vec<f64> {
         let t = t.clamp(self.t_start, self.t_end);
         let k = self.times.partition_point(|time| *time < t);
@@ -59,18 +73,34 @@ impl Piece {
         if k >= self.times.len() {
             return self.states.last().cloned().unwrap_or_default();
         }
-        let (t0, t1) = (self.times[k - 1], self.times[k]);
-        let h = t1 - t0;
+        let h = self.times[k] - self.times[k - 1];
         if h <= 0.0 {
             return self.states[k].clone();
         }
-        let s = (t - t0) / h;
+        let s = (t - self.times[k - 1]) / h;
         let (h00, h10, h01, h11) = hermite_basis(s);
-        let (x0, x1) = (&self.states[k - 1], &self.states[k]);
-        let (d0, d1) = (&self.derivatives[k - 1], &self.derivatives[k]);
-        (0..x0.len())
-            .map(|i| h00 * x0[i] + h10 * h * d0[i] + h01 * x1[i] + h11 * h * d1[i])
+        (0..self.states[k].len())
+            .map(|i| {
+                let (x0, x1, m0, m1) = self.segment(k, i, h);
+                h00 * x0 + h10 * m0 + h01 * x1 + h11 * m1
+            })
             .collect()
+    }
+
+    /// Component i on the step (k-1, k) of length h: its end values and end slopes times h.
+    /// On a stretch that needed the stiff method the stored derivatives are those of states a
+    /// tolerance away from the slow manifold, where a fast mode makes f huge (an instantaneous
+    /// reaction: k c_A times a residual of B); there the slopes are limited so that the cubic
+    /// stays monotone between the steps (Fritsch and Carlson, SIAM J. Numer. Anal. 17 (1980)
+    /// 238), which keeps an interpolated state as physical as the steps it lies between.
+    fn segment(&self, k: usize, i: usize, h: f64) -> (f64, f64, f64, f64) {
+        let (x0, x1) = (self.states[k - 1][i], self.states[k][i]);
+        let (m0, m1) = (h * self.derivatives[k - 1][i], h * self.derivatives[k][i]);
+        if !self.went_stiff {
+            return (x0, x1, m0, m1);
+        }
+        let (m0, m1) = monotone_slopes(x1 - x0, m0, m1);
+        (x0, x1, m0, m1)
     }
 
     pub fn last_state(&self) -> &[f64] {
@@ -80,29 +110,29 @@ impl Piece {
     /// d(state)/dt at `t`: the derivative of the Hermite interpolant.
     pub fn derivative_at(&self, t: f64) -> Vec<f64> {
         let t = t.clamp(self.t_start, self.t_end);
-        let k = self
-            .times
-            .partition_point(|time| *time < t)
-            .clamp(1, self.times.len().max(2) - 1);
         if self.times.len() < 2 {
             return self.derivatives[0].clone();
         }
-        let (t0, t1) = (self.times[k - 1], self.times[k]);
-        let h = t1 - t0;
+        let k = self
+            .times
+            .partition_point(|time| *time < t)
+            .clamp(1, self.times.len() - 1);
+        let h = self.times[k] - self.times[k - 1];
         if h <= 0.0 {
             return self.derivatives[k].clone();
         }
-        let s = (t - t0) / h;
+        let s = (t - self.times[k - 1]) / h;
         let (d00, d10, d01, d11) = (
             6.0 * s * s - 6.0 * s,
             3.0 * s * s - 4.0 * s + 1.0,
             -6.0 * s * s + 6.0 * s,
             3.0 * s * s - 2.0 * s,
         );
-        let (x0, x1) = (&self.states[k - 1], &self.states[k]);
-        let (v0, v1) = (&self.derivatives[k - 1], &self.derivatives[k]);
-        (0..x0.len())
-            .map(|i| (d00 * x0[i] + d01 * x1[i]) / h + d10 * v0[i] + d11 * v1[i])
+        (0..self.states[k].len())
+            .map(|i| {
+                let (x0, x1, m0, m1) = self.segment(k, i, h);
+                (d00 * x0 + d10 * m0 + d01 * x1 + d11 * m1) / h
+            })
             .collect()
     }
 
@@ -129,6 +159,19 @@ impl Piece {
         self.t_end = t;
         self.stopped_early = true;
     }
+}
+
+/// End slopes (times the step) limited so that the cubic Hermite interpolant of a change
+/// `delta` is monotone: slopes against the secant become zero, and (alpha, beta) = slopes /
+/// delta is pulled into the circle alpha^2 + beta^2 <= 9 (Fritsch and Carlson 1980).
+fn monotone_slopes(delta: f64, m0: f64, m1: f64) -> (f64, f64) {
+    if delta == 0.0 || !delta.is_finite() {
+        return (0.0, 0.0);
+    }
+    let (alpha, beta) = ((m0 / delta).max(0.0), (m1 / delta).max(0.0));
+    let radius = alpha.hypot(beta);
+    let shrink = if radius > 3.0 { 3.0 / radius } else { 1.0 };
+    (alpha * shrink * delta, beta * shrink * delta)
 }
 
 /// Cubic Hermite basis functions on [0, 1].
@@ -317,11 +360,16 @@ pub fn integrate_stretch(
     let status = system.status.get();
     let record = system.record.into_inner();
     let last_time = record.times.last().copied().unwrap_or(t0);
+    let failed = |kind| IntegrationFailure {
+        kind,
+        at_time: last_time,
+        state: record.states.last().cloned().unwrap_or_default(),
+    };
     if status.out_of_time {
-        return Err(IntegrationFailure::OutOfTime { at_time: last_time });
+        return Err(failed(FailureKind::OutOfTime));
     }
     if status.not_finite {
-        return Err(IntegrationFailure::NotFinite { at_time: last_time });
+        return Err(failed(FailureKind::NotFinite));
     }
     let stopped_early = status.stopped && last_time < t1 - 1e-9 * (t1 - t0).max(1.0);
     Ok(Piece {
@@ -370,7 +418,7 @@ where
         10.0,
         t1 - t0,
         0.0,
-        MAX_STEPS,
+        MAX_EXPLICIT_STEPS,
         STIFFNESS_CHECK_INTERVAL,
         OutputType::Sparse,
     );
@@ -406,15 +454,46 @@ fn stiff_run(system: &ScaledBalance<'_, '_>, t1: f64) -> Result<(), IntegrationF
         absolute_tolerance: ABSOLUTE_TOLERANCE * 100.0,
         max_steps: MAX_STEPS,
         initial_step: h.max(1e-9),
+        nonnegative: (Layout::TEMPERATURE + 1, system.plant.layout().alpha() + 1),
     };
     let rhs = |t: f64, y: &[f64], dy: &mut [f64]| system.scaled_rhs(t, y, dy);
     let mut on_step = |t: f64, y: &[f64], dy: &[f64]| system.accept(t, y, dy);
     integrate_stiff(&rhs, t_from, &y_from, t1, settings, &mut on_step)
         .map(|_| ())
-        .map_err(|e| match e {
-            StiffFailure::TooManySteps { at_time } => IntegrationFailure::TooManySteps { at_time },
-            StiffFailure::StepSizeUnderflow { at_time } | StiffFailure::Singular { at_time } => {
-                IntegrationFailure::StepSizeUnderflow { at_time }
+        .map_err(|e| {
+            let (kind, at_time) = match e {
+                StiffFailure::TooManySteps { at_time } => (FailureKind::TooManySteps, at_time),
+                StiffFailure::StepSizeUnderflow { at_time }
+                | StiffFailure::Singular { at_time } => (FailureKind::StepSizeUnderflow, at_time),
+            };
+            let state = system.record.borrow().states.last().cloned();
+            IntegrationFailure {
+                kind,
+                at_time,
+                state: state.unwrap_or_default(),
             }
         })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Fritsch and Carlson (1980): with slopes limited to the circle alpha^2 + beta^2 <= 9 and
+    /// none against the secant, the cubic Hermite interpolant is monotone, so it never leaves
+    /// the interval of its end values, whatever slopes the solver stored.
+    #[test]
+    fn limited_slopes_keep_the_interpolant_between_its_end_values() {
+        for (delta, m0, m1) in [(1.0, 1e20, -3.0), (-2.0, 5.0, 1e9), (1e-25, 4e-7, 0.0)] {
+            let (a, b) = monotone_slopes(delta, m0, m1);
+            for k in 0..=100 {
+                let (h00, h10, h01, h11) = hermite_basis(k as f64 / 100.0);
+                let value = h01 * delta + h10 * a + h11 * b + h00 * 0.0;
+                let (low, high) = (delta.min(0.0), delta.max(0.0));
+                let slack = 1e-12 * delta.abs();
+                assert!(value >= low - slack && value <= high + slack, "{value}");
+            }
+        }
+        assert_eq!(monotone_slopes(0.0, 3.0, -4.0), (0.0, 0.0));
+    }
 }

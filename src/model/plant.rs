@@ -227,6 +227,15 @@ impl Plant {
         total
     }
 
+    /// The liquid volume once everything is fed (volumes add), m^3.
+    pub fn final_volume(&self) -> f64 {
+        let fed = self
+            .feed
+            .as_ref()
+            .map_or(0.0, |f| f.stream.mass / f.stream.density);
+        self.charge.mass / self.charge.density + fed
+    }
+
     pub fn final_mass(&self) -> f64 {
         self.charge.mass + self.feed.as_ref().map_or(0.0, |f| f.stream.mass)
     }

@@ -5,7 +5,7 @@
 //! solver's dense output before the next stretch starts from it.
 
 use super::balance::{Layout, Phase};
-use super::integrate::{IntegrationFailure, Piece, integrate_stretch};
+use super::integrate::{FailureKind, IntegrationFailure, Piece, integrate_stretch};
 use super::plant::Plant;
 use crate::case::Dosing;
 use crate::numeric::{bisect, golden_section_max};
@@ -26,24 +26,86 @@ pub struct ScenarioError {
     pub advice: String,
 }
 
-fn scenario_error(scenario: &str, failure: IntegrationFailure) -> ScenarioError {
-    let (reason, at) = match failure {
-        IntegrationFailure::TooManySteps { at_time } => (
-            "the solver needed too many steps (the kinetics are very stiff)",
-            at_time,
-        ),
-        IntegrationFailure::StepSizeUnderflow { at_time } => {
-            ("the step size fell below round-off", at_time)
+fn scenario_error(plant: &Plant, scenario: &str, failure: IntegrationFailure) -> ScenarioError {
+    let reason = match failure.kind {
+        FailureKind::TooManySteps => {
+            "the solver needed too many steps (the kinetics are very stiff)"
         }
-        IntegrationFailure::OutOfTime { at_time } => ("the time budget ran out", at_time),
-        IntegrationFailure::NotFinite { at_time } => ("the state stopped being finite", at_time),
+        FailureKind::StepSizeUnderflow => "the step size fell below round-off",
+        FailureKind::OutOfTime => "the time budget ran out",
+        FailureKind::NotFinite => "the state stopped being finite",
+        FailureKind::TooManyEvents => {
+            "events followed one another without end (something chatters)"
+        }
+    };
+    let fastest = fastest_process(plant, &failure.state).map(|p| {
+        format!(
+            "at {:.1} degC the fastest process is {} with a time scale of {:.1e} s (activation energy {:.0} kJ/mol)",
+            p.temperature - 273.15,
+            p.name,
+            p.time_scale,
+            p.activation_energy / 1e3
+        )
+    });
+    let check = "check the rate constants, activation energies and their units";
+    let advice = match (failure.kind, fastest) {
+        (FailureKind::OutOfTime, fastest) => format!(
+            "allow more time (the command's --time-budget option) or shorten process.duration or failure.horizon{}",
+            fastest.map_or(String::new(), |f| format!("; {f}"))
+        ),
+        (FailureKind::TooManyEvents, _) => {
+            "check failure.stop_above and the boiling data, whose events chatter".to_string()
+        }
+        (_, fastest) => format!(
+            "{}{check}; if they are right, the runaway is effectively instantaneous at that temperature and this screening model cannot follow it: take the MTSR as reached at once and confirm by adiabatic calorimetry",
+            fastest.map_or(String::new(), |f| format!("{f}: "))
+        ),
     };
     ScenarioError {
         scenario: scenario.to_string(),
         reason: reason.to_string(),
-        at_h: at / 3600.0,
-        advice: "check the rate constants, activation energies and their units; extreme kinetics are outside what this screening model follows".to_string(),
+        at_h: failure.at_time / 3600.0,
+        advice,
     }
+}
+
+/// The fastest reaction or decomposition at a state, for the advice of a failed run.
+struct FastProcess {
+    name: String,
+    time_scale: f64,
+    temperature: f64,
+    activation_energy: f64,
+}
+
+/// Time scales at the state's temperature: a reaction's 1 / (k(T) c^(n-1)) at the recipe's
+/// largest concentration, the decomposition's E / q(T) of fresh mass.
+fn fastest_process(plant: &Plant, state: &[f64]) -> Option<FastProcess> {
+    let temperature = *state.get(Layout::TEMPERATURE)?;
+    if !temperature.is_finite() || temperature <= 0.0 {
+        return None;
+    }
+    let largest_amount = plant.recipe_amounts().into_iter().fold(0.0, f64::max);
+    let concentration = largest_amount / plant.final_volume();
+    let reactions = plant.network.reactions.iter().enumerate().map(|(j, law)| {
+        let order: f64 = law.orders.iter().map(|(_, n)| n).sum();
+        let rate = law.rate_constant(temperature) * concentration.powf(order - 1.0);
+        FastProcess {
+            name: format!("reactions[{j}]"),
+            time_scale: 1.0 / rate,
+            temperature,
+            activation_energy: law.activation_energy,
+        }
+    });
+    let decomposition = plant.decomposition.iter().map(|d| FastProcess {
+        name: "decomposition".to_string(),
+        time_scale: d.energy / d.fresh_rate(temperature),
+        temperature,
+        activation_energy: d.activation_energy,
+    });
+    reactions
+        .chain(decomposition)
+        .filter(|p| p.time_scale.is_finite() && p.time_scale > 0.0)
+        .min_by(|a, b| a.time_scale.total_cmp(&b.time_scale))
 }
 
 /// A scenario's run: consecutive pieces.
@@ -123,6 +185,53 @@ impl Trajectory {
         self.refine_maximum(best, from, to, f)
     }
 
+    /// The peak over [from, to] of a rate whose integral is a state function `cumulative`
+    /// (the reaction heat released, the gas formed). On stretches that needed the stiff method
+    /// the rate at a stored state is a huge rate constant times a residual a tolerance wide, so
+    /// there the rate is the secant of `cumulative` over the last `RATE_WINDOW` of the span
+    /// (1e-4 of it: seconds in a process of hours, far shorter than any thermal time constant
+    /// of a vessel); elsewhere it is the rate at the state, refined between steps.
+    pub fn peak_rate(
+        &self,
+        from: f64,
+        to: f64,
+        rate: &dyn Fn(&Phase, f64, &[f64]) -> f64,
+        cumulative: &dyn Fn(&[f64]) -> f64,
+    ) -> (f64, f64) {
+        let window = RATE_WINDOW * (to - from);
+        let mut best = (from, f64::NEG_INFINITY);
+        let mut best_is_smooth = false;
+        for piece in &self.pieces {
+            let mut window_start = 0;
+            for (k, (t, x)) in piece.times.iter().zip(&piece.states).enumerate() {
+                if *t < from || *t > to {
+                    continue;
+                }
+                let value = if piece.went_stiff {
+                    while window_start + 1 < k && piece.times[window_start + 1] <= t - window {
+                        window_start += 1;
+                    }
+                    let dt = t - piece.times[window_start];
+                    if dt <= 0.0 || dt < window.min(piece.t_end - piece.t_start) {
+                        continue;
+                    }
+                    (cumulative(x) - cumulative(&piece.states[window_start])) / dt
+                } else {
+                    rate(&piece.phase, *t, x)
+                };
+                if value > best.1 {
+                    best = (*t, value);
+                    best_is_smooth = !piece.went_stiff;
+                }
+            }
+        }
+        if best_is_smooth {
+            self.refine_maximum(best, from, to, rate)
+        } else {
+            best
+        }
+    }
+
     fn refine_maximum(
         &self,
         best: (f64, f64),
@@ -149,6 +258,8 @@ impl Trajectory {
     }
 }
 
+/// Averaging window of a rate on a stiff stretch, as a fraction of the span looked at.
+const RATE_WINDOW: f64 = 1e-4;
 /// The dosing interlock resets this far below its set point, K (so that it does not chatter).
 pub const INTERLOCK_HYSTERESIS_K: f64 = 1.0;
 /// Relative size of a stretch below which it is round-off, not time.
@@ -216,7 +327,7 @@ pub fn run_normal(plant: &Plant, deadline: Option<Instant>) -> Result<Trajectory
         switches,
         deadline,
     )
-    .map_err(|e| scenario_error("normal operation", e))
+    .map_err(|e| scenario_error(plant, "normal operation", e))
 }
 
 /// A cooling failure at `failure_time`, from the normal state then, followed for the
@@ -249,6 +360,7 @@ pub fn run_failure(
     let end = failure_time + plant.failure_horizon;
     run(plant, failure_time, state, status, end, switches, deadline).map_err(|e| {
         scenario_error(
+            plant,
             &format!("cooling failure at {:.3} h", failure_time / 3600.0),
             e,
         )
@@ -350,7 +462,11 @@ fn run(
             None => {}
         }
     }
-    Err(IntegrationFailure::TooManySteps { at_time: t })
+    Err(IntegrationFailure {
+        kind: FailureKind::TooManyEvents,
+        at_time: t,
+        state: x,
+    })
 }
 
 /// The event, if any, that the state at an accepted step shows.
