@@ -267,7 +267,13 @@ fn resolve_species(
                 let (entry, basis) = table.lookup(&term.name, term.phase)?;
                 Ok(line_from_entry(term, entry, Some(basis)))
             }
-            Method::Bonds => Ok(gas_line(term, table)),
+            Method::Bonds => match term.phase {
+                Some(phase) if phase != Phase::G => Err(EstimateError::Bonds(format!(
+                    "{}({phase}): bond dissociation enthalpies are gas-phase values; the bond route takes gas species only (write {}(g) or use the formation route)",
+                    term.name, term.name
+                ))),
+                _ => Ok(gas_line(term, table)),
+            },
         })
         .collect()
 }

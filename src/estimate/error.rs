@@ -7,7 +7,7 @@ pub enum EstimateError {
     #[error("equation \"{text}\": {message}")]
     Equation { text: String, message: String },
     #[error(
-        "unknown species {names}; the table holds: {known}. Give your own values with --data FILE, a CSV file with the header `species,phase,formula,dHf [kJ/mol],source` (formula and source may be empty), one row per species and phase"
+        "unknown species {names}; the table holds: {known}. Give your own values with --data FILE, a CSV file with the header `species,phase,formula,dHf [kJ/mol],source` (formula and source may be empty), one row per species and phase; a phase is written after the name as (g), (l), (s) or (aq)"
     )]
     UnknownSpecies { names: String, known: String },
     #[error("{species}({phase}) is not in the table; it holds {species} as: {held}")]
