@@ -501,3 +501,52 @@ fn cli_bad_input_exits_2_and_prints_nothing() {
         );
     }
 }
+
+#[test]
+fn cli_bad_data_row_names_file_line_and_column() {
+    let file =
+        data_file("species,phase,formula,dHf [kJ/mol],source\nA,g,C2H6,-84,\nB,q,C2H4,52,\n");
+    let path = file.path().display().to_string();
+    let r = run(&["enthalpy", "A -> CH4", "--data", &path]);
+    assert_eq!(r.code, Some(2));
+    assert!(
+        r.stderr.contains(&format!("{path}:3:2: phase \"q\"")),
+        "{}",
+        r.stderr
+    );
+    assert!(r.stdout.is_empty());
+}
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(300))]
+
+    /// No equation text, however odd, panics: it gives an estimate or an error.
+    #[test]
+    fn no_equation_panics(text in "[ A-Za-z0-9()+\\-<>=.,_→]{0,40}") {
+        for method in [Method::Formation, Method::Bonds] {
+            let _ = estimate_enthalpy(&EnthalpyRequest::new(&text, method));
+        }
+    }
+
+    /// No bond list panics.
+    #[test]
+    fn no_bond_list_panics(broken in "[ A-Za-z0-9\\-=.,–]{0,30}", formed in "[ A-Za-z0-9\\-=.,]{0,30}") {
+        let request = EnthalpyRequest {
+            broken: Some(broken),
+            formed: Some(formed),
+            ..EnthalpyRequest::new("CH4 + Cl2 -> CH3Cl + HCl", Method::Bonds)
+        };
+        let _ = estimate_enthalpy(&request);
+    }
+
+    /// No user file panics.
+    #[test]
+    fn no_user_file_panics(body in "[a-zA-Z0-9,;#\\[\\]/ .\\-\n\"]{0,120}") {
+        let file = data_file(&format!("species,phase,formula,dHf [kJ/mol],source\n{body}"));
+        let request = EnthalpyRequest {
+            data_file: Some(file.path().to_path_buf()),
+            ..EnthalpyRequest::new("CH4 -> CH4", Method::Formation)
+        };
+        let _ = estimate_enthalpy(&request);
+    }
+}
