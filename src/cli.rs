@@ -2,6 +2,7 @@
 
 use crate::assess::{AssessError, assess_within};
 use crate::case::{CaseError, load_case_file};
+use crate::estimate::EstimateError;
 use crate::report::atomic::write_atomically;
 use crate::report::csv::envelope_csv;
 use crate::report::json::JsonExporter;
@@ -34,6 +35,64 @@ pub enum Command {
     /// cooling, temperature and off-gas criteria at once, and the coolant the case needs.
     #[command(after_help = LIMIT_EXIT_CODES)]
     Limit(LimitArgs),
+    /// Estimate the enthalpy of a reaction before any experiment, from standard enthalpies of
+    /// formation (bundled table or your own) or from bond dissociation enthalpies; always an
+    /// estimate to be confirmed by reaction calorimetry.
+    #[command(after_help = ENTHALPY_HELP)]
+    Enthalpy(EnthalpyArgs),
+}
+
+const ENTHALPY_HELP: &str =
+    "Species may carry a phase: Br2(l), HCl(g), NBS(s), HCl(aq); without one, the only
+phase in the table or the standard state at 298.15 K is used (the report says which).
+Examples:
+  exoscreen enthalpy \"CH4 + Cl2 -> CH3Cl + HCl\"
+  exoscreen enthalpy \"C6H6 + Br2(l) -> PhBr + HBr\" --absorb-hx --format json
+  exoscreen enthalpy \"CH4 + Cl2 -> CH3Cl + HCl\" --method bonds
+  exoscreen enthalpy \"A + Cl2 -> B + HCl\" --data own.csv
+Exit status:
+  0  the estimate was computed
+  1  a bundled table is broken
+  2  bad input or usage (the message names the species, file, line and column)";
+
+/// How `exoscreen enthalpy` estimates.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum EnthalpyMethod {
+    /// Standard enthalpies of formation at 298.15 K.
+    Formation,
+    /// Bond dissociation enthalpies D298 (gas phase).
+    Bonds,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct EnthalpyArgs {
+    /// The reaction, e.g. "CH4 + Cl2 -> CH3Cl + HCl" (coefficients as in a case file).
+    pub equation: String,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// How to estimate.
+    #[arg(long, value_enum, default_value_t = EnthalpyMethod::Formation)]
+    pub method: EnthalpyMethod,
+    /// Your own enthalpies of formation: CSV with the header
+    /// `species,phase,formula,dHf [kJ/mol],source` (any molar-energy unit in the brackets);
+    /// they add species or are used before the bundled values.
+    #[arg(long, value_name = "FILE")]
+    pub data: Option<PathBuf>,
+    /// Bond route: the bonds broken, e.g. "CH3-H, Cl-Cl" ("2 C-H", own value "C-H=413").
+    #[arg(long, value_name = "BONDS", requires = "formed")]
+    pub broken: Option<String>,
+    /// Bond route: the bonds formed, e.g. "CH3-Cl, H-Cl".
+    #[arg(long, value_name = "BONDS", requires = "broken")]
+    pub formed: Option<String>,
+    /// Add the heat of absorbing the gaseous HCl, HBr or HI formed in water (infinite
+    /// dilution; concentrated acid releases less).
+    #[arg(long)]
+    pub absorb_hx: bool,
+    /// Sources to prefer, in order, before the default ATcT > JANAF > CRC > NASA > Yaws
+    /// (each a prefix of a source tag), e.g. "CRC,JANAF".
+    #[arg(long, value_name = "SOURCES", value_delimiter = ',')]
+    pub prefer: Vec<String>,
 }
 
 const LIMIT_EXIT_CODES: &str = "Exit status:
@@ -101,12 +160,16 @@ pub enum AppError {
     Output(#[from] std::io::Error),
     #[error("cannot write the envelope to {0}: {1}")]
     EnvelopeFile(String, std::io::Error),
+    #[error("{0}")]
+    Estimate(#[from] EstimateError),
 }
 
 impl AppError {
     pub fn exit_code(&self) -> u8 {
         match self {
             AppError::Case(_) => 2,
+            AppError::Estimate(e) if e.is_bad_input() => 2,
+            AppError::Estimate(_) => 1,
             AppError::Assess(_) | AppError::Output(_) | AppError::EnvelopeFile(..) => 1,
         }
     }
@@ -123,7 +186,43 @@ pub fn run(cli: Cli) -> Result<Outcome, AppError> {
     match cli.command {
         Command::Check(args) => check(&args),
         Command::Limit(args) => limit(&args),
+        Command::Enthalpy(args) => enthalpy(&args),
     }
+}
+
+fn enthalpy(args: &EnthalpyArgs) -> Result<Outcome, AppError> {
+    use crate::estimate::{EnthalpyRequest, Method, estimate_enthalpy};
+    use crate::report::enthalpy::{render_json, render_table};
+    let method = match args.method {
+        EnthalpyMethod::Formation => Method::Formation,
+        EnthalpyMethod::Bonds => Method::Bonds,
+    };
+    if method == Method::Formation && args.broken.is_some() {
+        return Err(EstimateError::Bonds(
+            "--broken and --formed belong to the bond route: add --method bonds".to_string(),
+        )
+        .into());
+    }
+    let request = EnthalpyRequest {
+        data_file: args.data.clone(),
+        broken: args.broken.clone(),
+        formed: args.formed.clone(),
+        absorb_hx: args.absorb_hx,
+        prefer: args
+            .prefer
+            .iter()
+            .map(|p| p.trim().to_string())
+            .filter(|p| !p.is_empty())
+            .collect(),
+        ..EnthalpyRequest::new(&args.equation, method)
+    };
+    let estimate = estimate_enthalpy(&request)?;
+    let text = match args.format {
+        Format::Table => render_table(&estimate),
+        Format::Json => render_json(&estimate),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(Outcome::Computed)
 }
 
 fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
