@@ -83,6 +83,9 @@ pub enum AppError {
     Output(#[from] std::io::Error),
     #[error("cannot write the envelope to {0}: {1}")]
     EnvelopeFile(String, std::io::Error),
+    /// Lab data (`crate::lab`): exit 2 for bad input, 1 for an analysis that failed.
+    #[error("{0}")]
+    Lab(#[from] crate::lab::LabError),
 }
 
 impl AppError {
@@ -90,6 +93,7 @@ impl AppError {
         match self {
             AppError::Case(_) => 2,
             AppError::Assess(_) | AppError::Output(_) | AppError::EnvelopeFile(..) => 1,
+            AppError::Lab(e) => e.exit_code(),
         }
     }
 }

@@ -7,6 +7,7 @@
 pub mod assess;
 pub mod case;
 pub mod cli;
+pub mod lab;
 pub mod model;
 pub mod numeric;
 pub mod report;
