@@ -106,3 +106,179 @@ fn given_limits_give_the_same_energy() {
     assert!((scan.energy / Q - 1.0).abs() < 0.01, "{}", scan.energy);
     assert!(!scan.limits_automatic);
 }
+
+/// Writes the demo scans of cases/lab/ (invented kinetics: E = 105 kJ/mol, A = 3e10 1/s,
+/// first order, 650 J/g; 400 rows, 1 % noise). Run with `cargo test --test dsc -- --ignored`.
+#[test]
+#[ignore]
+fn write_demo_scans() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("cases/lab");
+    std::fs::create_dir_all(&dir).unwrap();
+    for (i, rate) in RATES_K_MIN.iter().enumerate() {
+        let spec = CurveSpec {
+            heating_rate: rate / 60.0,
+            activation_energy: 105e3,
+            pre_exponential: 3e10,
+            order: 1.0,
+            energy: 650e3,
+            start: 303.15,
+            end: 623.15,
+            points: 400,
+            baseline: 30.0,
+            baseline_slope: 0.08,
+            noise: 0.01,
+            seed: 2026 + i as u64,
+            sample_mass: (i % 2 == 0).then_some(4.1e-6),
+        };
+        let name = format!("dsc-{rate}K-min.csv");
+        std::fs::write(dir.join(name), scan_csv(&spec)).unwrap();
+    }
+}
+
+mod common;
+use common::run;
+
+const DEMO: [&str; 4] = [
+    "cases/lab/dsc-2K-min.csv",
+    "cases/lab/dsc-5K-min.csv",
+    "cases/lab/dsc-10K-min.csv",
+    "cases/lab/dsc-20K-min.csv",
+];
+
+/// The JSON keys of the issue, the cautions, and values near the demo's invented kinetics
+/// (105 kJ/mol, 650 J/g; 400 rows a scan, so a looser 3 %).
+#[test]
+fn the_demo_scans_give_the_json_keys() {
+    let out = run(&[&["dsc", "--format", "json"][..], &DEMO[..]].concat());
+    assert_eq!(out.code, Some(0), "{}", out.stderr);
+    let v: serde_json::Value = serde_json::from_str(&out.stdout).unwrap();
+    let runs = v["runs"].as_array().unwrap();
+    assert_eq!(runs.len(), 4);
+    for key in [
+        "file",
+        "heating_rate_K_min",
+        "onset_C",
+        "peak_C",
+        "energy_J_g",
+    ] {
+        assert!(!runs[0][key].is_null(), "runs[0].{key}");
+    }
+    for method in ["kissinger", "ozawa"] {
+        for key in ["activation_energy_kJ_mol", "pre_exponential_1_s", "r2"] {
+            assert!(v[method][key].is_number(), "{method}.{key}");
+        }
+        let ea = v[method]["activation_energy_kJ_mol"].as_f64().unwrap();
+        assert!((ea / 105.0 - 1.0).abs() < 0.03, "{method} {ea}");
+    }
+    for key in [
+        "energy_kJ_kg",
+        "heat_release_rate_W_kg",
+        "reference_temperature_C",
+        "activation_energy_kJ_mol",
+        "order",
+    ] {
+        assert!(v["decomposition"][key].is_number(), "decomposition.{key}");
+    }
+    assert!((v["decomposition"]["energy_kJ_kg"].as_f64().unwrap() / 650.0 - 1.0).abs() < 0.01);
+    assert!(v["td24_C"].is_number());
+    assert_eq!(v["cautions"].as_array().unwrap().len(), 5);
+    let table = run(&[&["dsc"][..], &DEMO[..]].concat());
+    assert!(table.stdout.contains("decomposition:\n") && table.stdout.contains("CAUTIONS"));
+}
+
+/// One scan: zero order at the assumed 50 kJ/mol, flagged.
+#[test]
+fn a_single_scan_gives_the_flagged_zero_order_estimate() {
+    let out = run(&["dsc", "--format", "json", DEMO[2]]);
+    assert_eq!(out.code, Some(0), "{}", out.stderr);
+    let v: serde_json::Value = serde_json::from_str(&out.stdout).unwrap();
+    assert!(v["kissinger"].is_null() && v["ozawa"].is_null());
+    assert_eq!(v["decomposition"]["order"].as_f64(), Some(0.0));
+    assert_eq!(
+        v["decomposition"]["activation_energy_kJ_mol"].as_f64(),
+        Some(50.0)
+    );
+    assert!(out.stdout.contains("dsc.single_rate"));
+    assert!(out.stdout.contains("common practice"));
+}
+
+/// Scans written to a temporary directory, with the rate given and the heat flow endo-up,
+/// through the binary.
+#[test]
+fn the_binary_reads_scans_from_files_with_options() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut args = vec![
+        "dsc".to_string(),
+        "--format".into(),
+        "json".into(),
+        "--endo-up".into(),
+    ];
+    for rate in RATES_K_MIN {
+        let text = scan_csv(&spec(rate, 0.01, 21));
+        // Endo-up: the same scan with the heat flow negated.
+        let flipped: String = text
+            .lines()
+            .map(|l| match l.rsplit_once(", ") {
+                Some((head, flow)) if !l.starts_with('#') && !l.starts_with("time") => {
+                    format!("{head}, -{flow}\n").replace("--", "")
+                }
+                _ => format!("{l}\n"),
+            })
+            .collect();
+        let path = dir.path().join(format!("s{rate}.csv"));
+        std::fs::write(&path, flipped).unwrap();
+        args.push(path.display().to_string());
+        args.push("--rate".into());
+        args.push(format!("{rate} K/min"));
+    }
+    let refs: Vec<&str> = args.iter().map(String::as_str).collect();
+    let out = run(&refs);
+    assert_eq!(out.code, Some(0), "{}", out.stderr);
+    let v: serde_json::Value = serde_json::from_str(&out.stdout).unwrap();
+    let ea = v["kissinger"]["activation_energy_kJ_mol"].as_f64().unwrap();
+    assert!((ea / 120.0 - 1.0).abs() < 0.02, "{ea}");
+    assert_eq!(v["runs"][0]["heating_rate_given"], true);
+}
+
+/// Bad input: exit 2, file:row:column, what is accepted, nothing on stdout.
+#[test]
+fn bad_scans_are_placed_errors() {
+    let dir = tempfile::tempdir().unwrap();
+    let bad = dir.path().join("bad.csv");
+    std::fs::write(
+        &bad,
+        "# sample_mass: 3 mg\ntime [min], temperature [degC], heat_flow [mW]\n0, 30, 1\n1, 3l, 1\n",
+    )
+    .unwrap();
+    let out = run(&["dsc", bad.to_str().unwrap()]);
+    assert_eq!(out.code, Some(2));
+    assert!(
+        out.stderr
+            .contains("bad.csv:4:2: `3l` in column `temperature` is not a number"),
+        "{}",
+        out.stderr
+    );
+    assert!(out.stdout.is_empty());
+    let no_mass = dir.path().join("no-mass.csv");
+    let text = scan_csv(&spec(2.0, 0.0, 1)).replace("# sample_mass: 3.2 mg\n", "");
+    std::fs::write(&no_mass, text).unwrap();
+    let out = run(&["dsc", no_mass.to_str().unwrap()]);
+    assert_eq!(out.code, Some(2));
+    assert!(
+        out.stderr.contains("no-mass.csv:2:3:") && out.stderr.contains("sample_mass"),
+        "{}",
+        out.stderr
+    );
+    let out = run(&["dsc", DEMO[0], "--rate", "10 kg"]);
+    assert_eq!(out.code, Some(2));
+    assert!(out.stderr.contains("10 K/min"), "{}", out.stderr);
+    let out = run(&[
+        "dsc", DEMO[0], DEMO[1], DEMO[2], "--rate", "2 K/min", "--rate", "5 K/min",
+    ]);
+    assert_eq!(out.code, Some(2));
+    assert!(
+        out.stderr.contains("2 --rate values for 3 files"),
+        "{}",
+        out.stderr
+    );
+}

@@ -68,16 +68,16 @@ pub fn scan_csv(spec: &CurveSpec) -> String {
     let mut text = String::new();
     let _ = writeln!(
         text,
-        "# invented DSC scan: nth-order Arrhenius kinetics, E = {} kJ/mol, A = {:e} 1/s, n = {}, energy = {} J/g",
+        "# invented DSC scan at {} K/min, nth-order Arrhenius kinetics (E = {} kJ/mol, A = {:e} 1/s, n = {}, energy = {} J/g)",
+        spec.heating_rate * 60.0,
         spec.activation_energy / 1e3,
         spec.pre_exponential,
         spec.order,
         spec.energy / 1e3
     );
-    let _ = writeln!(text, "# heating_rate: {} K/min", spec.heating_rate * 60.0);
     let unit = match spec.sample_mass {
         Some(mass) => {
-            let _ = writeln!(text, "# sample_mass: {} mg", mass * 1e6);
+            let _ = writeln!(text, "# sample_mass: {} mg", (mass * 1e9).round() / 1e3);
             "mW"
         }
         None => "W/g",
