@@ -282,3 +282,83 @@ fn bad_scans_are_placed_errors() {
         out.stderr
     );
 }
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(200))]
+    /// Any finite numbers (increasing times) in a well-formed table give a scan or an error, never a panic.
+    #[test]
+    fn arbitrary_scans_never_panic(
+        rows in proptest::collection::vec((1e-3f64..10.0, -100f64..500.0, -1e2f64..1e2), 0..80),
+        endo_up: bool,
+        with_limits: bool,
+    ) {
+        let mut text = String::from("# sample_mass: 2 mg\ntime [min], temperature [degC], heat_flow [mW]\n");
+        let mut t = 0.0;
+        for (dt, temp, q) in &rows {
+            t += dt;
+            text.push_str(&format!("{t}, {temp}, {q}\n"));
+        }
+        if let Ok(table) = Table::parse(&text, "p.csv") {
+            let options = ScanOptions {
+                endo_up,
+                baseline: with_limits.then_some((350.0, 450.0)),
+                ..ScanOptions::default()
+            };
+            let _ = analyse_scan(&table, &options);
+            let _ = study(&[table], &[options], None);
+        }
+    }
+}
+
+/// A time that goes back is placed at its row; a heating rate that is not constant is a
+/// warning; a scan without exotherm is an analysis error (exit 1).
+#[test]
+fn time_order_linearity_and_no_exotherm() {
+    let text = scan_csv(&spec(10.0, 0.0, 1));
+    let mut lines: Vec<String> = text.lines().map(String::from).collect();
+    // Line 100 of the file gets the time of line 99.
+    let previous_time = lines[98].split(',').next().unwrap().to_string();
+    let rest = lines[99].split_once(',').unwrap().1.to_string();
+    lines[99] = format!("{previous_time},{rest}");
+    let broken = Table::parse(&lines.join("\n"), "t.csv").unwrap();
+    let e = analyse_scan(&broken, &ScanOptions::default())
+        .unwrap_err()
+        .to_string();
+    assert!(e.starts_with("t.csv:100:1: time does not increase"), "{e}");
+
+    // Temperatures bent by up to 3 K off the line: the rate is still fitted, with a warning.
+    let bent: String = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| {
+            let cells: Vec<&str> = l.split(", ").collect();
+            if l.starts_with('#') || l.starts_with("time") || cells.len() != 3 {
+                return format!("{l}\n");
+            }
+            let temp: f64 = cells[1].parse().unwrap();
+            let bend = 3.0 * (i as f64 / 300.0).sin();
+            format!("{}, {:.4}, {}\n", cells[0], temp + bend, cells[2])
+        })
+        .collect();
+    let scan = analyse_scan(
+        &Table::parse(&bent, "b.csv").unwrap(),
+        &ScanOptions::default(),
+    )
+    .unwrap();
+    assert!(
+        scan.warnings
+            .iter()
+            .any(|w| w.code == "dsc.rate_not_constant")
+    );
+
+    let flat = "time [min], temperature [degC], heat_flow [W/g]\n".to_string()
+        + &(0..50)
+            .map(|i| format!("{i}, {}, -0.01\n", 30 + i))
+            .collect::<String>();
+    let e = analyse_scan(
+        &Table::parse(&flat, "f.csv").unwrap(),
+        &ScanOptions::default(),
+    )
+    .unwrap_err();
+    assert_eq!(e.exit_code(), 1, "{e}");
+}
