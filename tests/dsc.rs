@@ -362,3 +362,29 @@ fn time_order_linearity_and_no_exotherm() {
     .unwrap_err();
     assert_eq!(e.exit_code(), 1, "{e}");
 }
+
+/// The printed block pasted into a demo case (in place of its own) loads through the case
+/// loader with the same values.
+#[test]
+fn the_printed_block_loads_in_a_case() {
+    use exoscreen::case::load::load_case_text;
+    let out = run(&[&["dsc", "--format", "json"][..], &DEMO[..]].concat());
+    let v: serde_json::Value = serde_json::from_str(&out.stdout).unwrap();
+    let block = v["decomposition"]["yaml"].as_str().unwrap();
+    let case =
+        std::fs::read_to_string(common::root().join("cases/bromination-semibatch.yaml")).unwrap();
+    let start = case.find("decomposition:\n").unwrap();
+    let end = start + case[start..].find("\n\n").unwrap() + 1;
+    let pasted = format!("{}{}{}", &case[..start], block, &case[end..]);
+    let loaded = load_case_text(&pasted, "pasted.yaml").unwrap();
+    let d = loaded.decomposition.unwrap();
+    let q = v["decomposition"]["heat_release_rate_W_kg"]
+        .as_f64()
+        .unwrap();
+    assert!((d.heat_release_rate.value / q - 1.0).abs() < 1e-3);
+    let ea = v["decomposition"]["activation_energy_kJ_mol"]
+        .as_f64()
+        .unwrap();
+    assert!((d.activation_energy.value / (ea * 1e3) - 1.0).abs() < 1e-3);
+    assert_eq!(d.order, 1.0);
+}

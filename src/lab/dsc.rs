@@ -19,8 +19,8 @@
 //!   time from the first baseline. Given limits (`--baseline "T1, T2"`) anchor the line at the
 //!   mean signal within the smoothing window around T1 and T2.
 //! * Energy: the trapezoidal integral of (signal - baseline) dt between the limits, J/kg.
-//! * Peak temperature: the vertex of a least-squares parabola in T through the raw net
-//!   signal above 80 % of the peak height.
+//! * Peak temperature: the maximum of a least-squares cubic in T through the raw net signal
+//!   above 80 % of the peak height.
 //! * Onset (ASTM E537): the tangent at the inflection point of the leading edge (the largest
 //!   slope of a local least-squares line through the raw net signal, between 10 % of the
 //!   height and the peak) extended to meet the baseline.
@@ -40,7 +40,7 @@ const END_FRACTION: f64 = 0.01;
 /// Net-signal fraction of the peak height at which the single-scan rate is read.
 pub const DETECTION_FRACTION: f64 = 0.05;
 /// Net-signal fraction of the peak height above which the parabola of the peak is fitted.
-const PEAK_FIT_FRACTION: f64 = 0.95;
+const PEAK_FIT_FRACTION: f64 = 0.8;
 /// Half-width of the local tangent fits, in smoothing half-widths.
 const TANGENT_WINDOW: usize = 2;
 
@@ -542,38 +542,58 @@ fn integral(time: &[f64], y: &[f64], from: usize, to: usize) -> f64 {
         .sum()
 }
 
-/// Vertex of the least-squares parabola through the raw net signal where the smoothed one is
-/// above 80 % of the height; the smoothed maximum when the parabola does not fit.
+/// Maximum of the least-squares cubic through the raw net signal where the smoothed one is
+/// above `PEAK_FIT_FRACTION` of the height (a cubic follows the skew of the peak, which biases
+/// a parabola); the smoothed maximum when the fit has no maximum inside that stretch.
 fn peak_temperature(t: &[f64], net: &[f64], net_smooth: &[f64], top: usize, height: f64) -> f64 {
     let level = PEAK_FIT_FRACTION * height;
     let mut from = walk(net_smooth, top, level, false);
     let mut to = walk(net_smooth, top, level, true);
-    if to - from < 4 {
-        from = top.saturating_sub(2);
-        to = (top + 2).min(t.len() - 1);
+    if to - from < 6 {
+        from = top.saturating_sub(3);
+        to = (top + 3).min(t.len() - 1);
     }
-    parabola_vertex(&t[from..=to], &net[from..=to], t[top])
+    cubic_maximum(&t[from..=to], &net[from..=to], t[top])
         .filter(|v| *v >= t[from] && *v <= t[to])
         .unwrap_or(t[top])
 }
 
-/// Vertex of y = a + b u + c u^2 (u = x - centre), None unless it opens downwards.
-fn parabola_vertex(x: &[f64], y: &[f64], centre: f64) -> Option<f64> {
-    let mut m = nalgebra::Matrix3::<f64>::zeros();
-    let mut v = nalgebra::Vector3::<f64>::zeros();
+/// Where y = a + b u + c u^2 + d u^3 (u = x - centre, scaled) has a maximum, if it has one.
+fn cubic_maximum(x: &[f64], y: &[f64], centre: f64) -> Option<f64> {
+    let scale = x.iter().map(|xi| (xi - centre).abs()).fold(0.0, f64::max);
+    if not_positive(scale) || x.len() < 5 {
+        return None;
+    }
+    let mut m = nalgebra::Matrix4::<f64>::zeros();
+    let mut v = nalgebra::Vector4::<f64>::zeros();
     for (xi, yi) in x.iter().zip(y) {
-        let u = xi - centre;
-        let p = [1.0, u, u * u];
-        for r in 0..3 {
-            for c in 0..3 {
+        let u = (xi - centre) / scale;
+        let p = [1.0, u, u * u, u * u * u];
+        for r in 0..4 {
+            for c in 0..4 {
                 m[(r, c)] += p[r] * p[c];
             }
             v[r] += p[r] * yi;
         }
     }
-    let coefficients = m.lu().solve(&v)?;
-    let (b, c) = (coefficients[1], coefficients[2]);
-    (c < 0.0).then(|| centre - b / (2.0 * c))
+    let k = m.lu().solve(&v)?;
+    let (b, c, d) = (k[1], k[2], k[3]);
+    // y' = b + 2c u + 3d u^2 = 0 with y'' = 2c + 6d u < 0.
+    let roots: Vec<f64> = if d.abs() < 1e-12 * c.abs().max(1e-300) {
+        vec![-b / (2.0 * c)]
+    } else {
+        let disc = 4.0 * c * c - 12.0 * d * b;
+        if disc < 0.0 {
+            return None;
+        }
+        let r = disc.sqrt();
+        vec![(-2.0 * c + r) / (6.0 * d), (-2.0 * c - r) / (6.0 * d)]
+    };
+    roots
+        .into_iter()
+        .filter(|u| u.is_finite() && 2.0 * c + 6.0 * d * u < 0.0 && u.abs() <= 1.0)
+        .map(|u| centre + u * scale)
+        .next()
 }
 
 /// ASTM E537 extrapolated onset: the tangent at the steepest point of the leading edge, from a
