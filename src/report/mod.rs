@@ -3,6 +3,7 @@
 pub mod atomic;
 pub mod cautions;
 pub mod csv;
+pub mod dsc;
 pub mod enthalpy;
 pub mod json;
 pub mod limit;
