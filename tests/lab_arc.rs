@@ -170,3 +170,57 @@ fn tmr_at_phi_one_matches_a_phi_one_run() {
     }
     assert!(checked >= 5, "{checked}");
 }
+
+mod common;
+
+#[test]
+fn the_demo_reports_its_keys_and_cautions() {
+    let run = common::run(&["arc", "cases/lab/arc-demo.csv", "--format", "json"]);
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    let json: serde_json::Value = serde_json::from_str(&run.stdout).unwrap();
+    for key in [
+        "phi",
+        "onset_measured_C",
+        "onset_corrected_C",
+        "adiabatic_rise_measured_K",
+        "adiabatic_rise_corrected_K",
+        "activation_energy_kJ_mol",
+    ] {
+        assert!(json[key].as_f64().is_some(), "{key}");
+    }
+    let point = &json["tmr_ad"][0];
+    assert!(point["temperature_C"].is_number() && point["tmr_ad_h"].is_number());
+    assert!(
+        json["decomposition_yaml"]
+            .as_str()
+            .unwrap()
+            .contains("decomposition:")
+    );
+    assert_eq!(json["cautions"].as_array().unwrap().len(), 5);
+}
+
+/// No phi anywhere is bad input (exit 2) that says what would be accepted; time that runs
+/// backwards is placed at its row and column.
+#[test]
+fn bad_arc_files_are_placed() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("no-phi.csv");
+    let mut text = String::from("time [min], temperature [degC]\n");
+    for i in 0..20 {
+        text.push_str(&format!("{i}, {}\n", 100.0 + i as f64));
+    }
+    std::fs::write(&path, &text).unwrap();
+    let run = common::run(&["arc", path.to_str().unwrap()]);
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    assert!(
+        run.stderr.contains("--phi") && run.stderr.contains("no-phi.csv:1"),
+        "{}",
+        run.stderr
+    );
+    let back = dir.path().join("backwards.csv");
+    std::fs::write(&back, text.replace("\n5, ", "\n3, ")).unwrap();
+    let run = common::run(&["arc", back.to_str().unwrap(), "--phi", "2"]);
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    // Line 7 of the file holds the 6th data row (time 3 after 4), field 1.
+    assert!(run.stderr.contains("backwards.csv:7:1"), "{}", run.stderr);
+}

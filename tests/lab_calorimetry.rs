@@ -177,3 +177,77 @@ fn enthalpy_and_kinetics_come_back_from_model_data() {
     assert!(fit.residual_rms < 0.01, "{}", fit.residual_rms);
     let _ = GAS_CONSTANT;
 }
+
+mod common;
+
+/// The run as a calorimeter file: minutes, degC, W, grams of feed with `# feed_amount`.
+fn write_csv(dir: &std::path::Path, temperature: f64, g: &Generated) -> std::path::PathBuf {
+    let mut text = format!(
+        "# feed_amount: {FEED_B} mol\n# charge_amount: {CHARGE_A} mol\n# volume: {} L\n# feed_volume: {} L\ntime [min], reactor_temperature [degC], heat_flow [W], dosed [g]\n",
+        V0 * 1e3,
+        V_FEED * 1e3
+    );
+    for i in 0..g.time.len() {
+        text.push_str(&format!(
+            "{:.4}, {:.3}, {:.5}, {:.5}\n",
+            g.time[i] / 60.0,
+            temperature - 273.15,
+            g.heat_flow[i],
+            g.dosed[i] / FEED_B * 250.0
+        ));
+    }
+    let path = dir.join(format!("run-{:.0}.csv", temperature));
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+/// The same round trip through CSV files and the binary's JSON.
+#[test]
+fn the_command_gives_the_kinetics_back_from_files() {
+    let dir = tempfile::tempdir().unwrap();
+    let paths: Vec<String> = TEMPERATURES
+        .iter()
+        .enumerate()
+        .map(|(i, &t)| {
+            let g = generate(t, 0x5DEE_CE66_D1CE_4E5B ^ (i as u64 + 7));
+            write_csv(dir.path(), t, &g).display().to_string()
+        })
+        .collect();
+    let mut args = vec!["calorimetry", "--format", "json"];
+    args.extend(paths.iter().map(|s| s.as_str()));
+    let run = common::run(&args);
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    let json: serde_json::Value = serde_json::from_str(&run.stdout).unwrap();
+    let dh = json["enthalpy_kJ_mol"].as_f64().unwrap();
+    assert!((dh * 1e3 / DH - 1.0).abs() < 0.01, "{dh}");
+    let ea = json["kinetics"]["activation_energy_kJ_mol"]
+        .as_f64()
+        .unwrap();
+    assert!((ea * 1e3 / EA - 1.0).abs() < 0.02, "{ea}");
+    assert!(json["kinetics"]["residual_rms"].as_f64().unwrap() < 0.01);
+    assert!(
+        json["reactions_yaml"]
+            .as_str()
+            .unwrap()
+            .contains("L/(mol*s)")
+    );
+    assert_eq!(json["cautions"].as_array().unwrap().len(), 5);
+}
+
+/// A mass-dosed file without the feed's molar amount is bad input: exit 2, placed at the
+/// header cell of `dosed`.
+#[test]
+fn a_mass_feed_without_its_amount_is_placed() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("no-amount.csv");
+    let mut text =
+        String::from("time [min], reactor_temperature [degC], heat_flow [W], dosed [g]\n");
+    for i in 0..20 {
+        text.push_str(&format!("{i}, 50, 1.0, {}\n", i as f64));
+    }
+    std::fs::write(&path, text).unwrap();
+    let run = common::run(&["calorimetry", path.to_str().unwrap()]);
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    assert!(run.stderr.contains("no-amount.csv:1:4"), "{}", run.stderr);
+    assert!(run.stdout.is_empty());
+}

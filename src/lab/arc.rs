@@ -3,6 +3,8 @@
 //!
 //! Pure functions on slices of SI values (s, K, K/s); reading files is elsewhere.
 
+pub mod input;
+
 use crate::model::network::GAS_CONSTANT;
 
 /// Detection threshold of the self-heat rate, K/s: 0.02 K/min, common practice for ARC

@@ -3,6 +3,7 @@
 //!
 //! Pure functions on slices of SI values (s, K, W, mol); `kinetics` fits the rate law.
 
+pub mod input;
 pub mod kinetics;
 
 use crate::lab::arc::{Line, least_squares_line};
