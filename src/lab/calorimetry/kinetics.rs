@@ -170,18 +170,43 @@ pub fn simulate_conversion(run: &FitRun, rate_constant: &dyn Fn(f64) -> f64) -> 
     out
 }
 
-/// Root mean square of simulated minus measured X_th.
-fn rms(simulated: &[f64], measured: &[f64]) -> f64 {
-    let n = simulated.len().min(measured.len()).max(1);
-    let sum: f64 = simulated
-        .iter()
-        .zip(measured)
-        .map(|(s, m)| (s - m) * (s - m))
+/// Root mean square of measured X_th minus s X_sim + c (t - t0)/duration, with the scale s and
+/// the drift c that fit best (linear least squares, given X_sim). An offset e of the baseline
+/// adds e (t - t0) to Q(t) and e times the duration to Q_total: a drift and a scale of X_th,
+/// which the two parameters take up, so that the noise of the baseline windows, integrated
+/// over a long run, does not bend k. Without a solvable 2 x 2 system: s = 1, c = 0.
+pub fn rms_with_drift(time: &[f64], simulated: &[f64], measured: &[f64]) -> f64 {
+    let n = simulated.len().min(measured.len()).min(time.len());
+    if n == 0 {
+        return 0.0;
+    }
+    let span = (time[n - 1] - time[0]).max(f64::MIN_POSITIVE);
+    let tau = |i: usize| (time[i] - time[0]) / span;
+    let (mut sxx, mut sxt, mut stt, mut sxy, mut sty) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for i in 0..n {
+        let (x, t, y) = (simulated[i], tau(i), measured[i]);
+        sxx += x * x;
+        sxt += x * t;
+        stt += t * t;
+        sxy += x * y;
+        sty += t * y;
+    }
+    let det = sxx * stt - sxt * sxt;
+    let (scale, drift) = if det.abs() > 1e-12 * sxx * stt && det.is_finite() {
+        ((sxy * stt - sty * sxt) / det, (sxx * sty - sxt * sxy) / det)
+    } else {
+        (1.0, 0.0)
+    };
+    let sum: f64 = (0..n)
+        .map(|i| {
+            let e = measured[i] - scale * simulated[i] - drift * tau(i);
+            e * e
+        })
         .sum();
     (sum / n as f64).sqrt()
 }
 
-/// Best constant k of one run: (k, RMS of X_th). A coarse scan of ln k over the range of
+/// Best constant k of one run: (k, RMS of X_th, see `rms_with_drift`). A coarse scan of ln k over the range of
 /// SLOWEST..FASTEST characteristic times, then a golden-section search between the scan's
 /// neighbours of its best point.
 pub fn fit_rate_constant(run: &FitRun) -> (f64, f64) {
@@ -191,7 +216,11 @@ pub fn fit_rate_constant(run: &FitRun) -> (f64, f64) {
     let ln_hi = (FASTEST / (run.duration() * order_term)).ln();
     let misfit = |ln_k: f64| {
         let k = ln_k.exp();
-        rms(&simulate_conversion(run, &|_| k), run.thermal_conversion)
+        rms_with_drift(
+            run.time,
+            &simulate_conversion(run, &|_| k),
+            run.thermal_conversion,
+        )
     };
     let step = (ln_hi - ln_lo) / (SCAN_POINTS - 1) as f64;
     let best = (0..SCAN_POINTS)
@@ -213,7 +242,8 @@ pub struct ArrheniusFit {
     /// K: 1/mean(1/T) of the runs, where k_ref and Ea are uncorrelated.
     pub reference_temperature: f64,
     pub activation_energy: f64,
-    /// RMS of X_th over every point of every run with k(T) of the fitted Arrhenius law.
+    /// RMS of X_th over every point of every run with k(T) of the fitted Arrhenius law (each
+    /// run with its own scale and drift, see `rms_with_drift`).
     pub residual_rms: f64,
 }
 
@@ -244,7 +274,7 @@ pub fn fit_arrhenius(runs: &[FitRun]) -> Option<ArrheniusFit> {
     for r in runs {
         let k = |t: f64| arrhenius(k_ref, activation_energy, reference_temperature, t);
         let sim = simulate_conversion(r, &k);
-        let e = rms(&sim, r.thermal_conversion);
+        let e = rms_with_drift(r.time, &sim, r.thermal_conversion);
         sum += e * e * sim.len() as f64;
         count += sim.len();
     }
@@ -260,6 +290,23 @@ pub fn fit_arrhenius(runs: &[FitRun]) -> Option<ArrheniusFit> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A measured curve that is 0.98 X_sim + 0.01 (t - t0)/duration fits with zero residual;
+    /// a different shape does not.
+    #[test]
+    fn scale_and_drift_are_taken_up() {
+        let t: Vec<f64> = (0..50).map(|i| i as f64 * 7.0).collect();
+        let sim: Vec<f64> = t.iter().map(|t| 1.0 - (-t / 60.0).exp()).collect();
+        let end = t[t.len() - 1];
+        let measured: Vec<f64> = t
+            .iter()
+            .zip(&sim)
+            .map(|(t, x)| 0.98 * x + 0.01 * t / end)
+            .collect();
+        assert!(rms_with_drift(&t, &sim, &measured) < 1e-12);
+        let other: Vec<f64> = t.iter().map(|t| 1.0 - (-t / 30.0).exp()).collect();
+        assert!(rms_with_drift(&t, &sim, &other) > 1e-3);
+    }
 
     /// Batch, first order in B dosed all at t = 0: X_th = 1 - exp(-k t) (the analytic solution).
     #[test]
