@@ -17,13 +17,23 @@ pub fn decomposition_entry(run: &ArcRun) -> Option<String> {
     let energy = cp * f.rise_corrected;
     let q_ref = energy * f.ln_rate_constant.exp();
     Some(format!(
-        "decomposition:\n  energy: {:.0} kJ/kg\n  heat_release_rate: {:.4e} W/kg\n  reference_temperature: {:.1} degC\n  activation_energy: {:.1} kJ/mol\n  order: {}\n",
+        "decomposition:\n  energy: {:.0} kJ/kg\n  heat_release_rate: {} W/kg\n  reference_temperature: {:.1} degC\n  activation_energy: {:.1} kJ/mol\n  order: {}\n",
         energy / 1e3,
-        q_ref,
+        readable(q_ref),
         celsius(f.fit_reference_temperature),
         f.activation_energy / 1e3,
         f.order
     ))
+}
+
+/// Four significant figures, in plain notation between 1e-3 and 1e5.
+fn readable(value: f64) -> String {
+    if (1e-3..1e5).contains(&value.abs()) {
+        let decimals = (3 - value.abs().log10().floor() as i32).max(0) as usize;
+        format!("{value:.decimals$}")
+    } else {
+        format!("{value:.3e}")
+    }
 }
 
 pub fn render_table(run: &ArcRun, source: &Source) -> String {
