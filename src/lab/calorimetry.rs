@@ -14,6 +14,10 @@ pub const DEFAULT_BASELINE_SHARE: f64 = 0.05;
 /// A baseline window whose own drift over it exceeds this share of the peak net heat flow is
 /// not flat (a screening choice of this program, not a standard).
 const FLATNESS_SHARE: f64 = 0.02;
+/// A step between the baseline's two ends above this share of the peak net heat flow is warned
+/// about: the reaction may not be over, or the instrument's baseline moved (a screening
+/// choice of this program).
+const STEP_SHARE: f64 = 0.05;
 /// Dosed amount within this share of the final one counts as the end of the feed.
 const FEED_END_SHARE: f64 = 1e-6;
 
@@ -281,6 +285,16 @@ fn flatness_warnings(head: &Window, tail: &Window, peak: f64) -> Vec<Warning> {
             ),
         ));
     }
+    let step = tail.mean_point.1 - head.mean_point.1;
+    if step.abs() > STEP_SHARE * peak {
+        out.push(Warning::new(
+            "baseline_step",
+            format!(
+                "the heat flow ends {step:+.3} W from where it started ({:.1} % of the peak): the reaction may not be over (the enthalpy assumes full conversion), or the instrument's baseline moved; check the end of the run or set --baseline",
+                100.0 * step.abs() / peak
+            ),
+        ));
+    }
     if drift(head) > FLATNESS_SHARE * peak {
         out.push(Warning::new(
             "heat_flow_head_not_flat",
@@ -334,5 +348,36 @@ mod tests {
         assert!((h.enthalpy + 500.0).abs() < 5.3);
         assert!(h.warnings.is_empty());
         assert!((h.feed_end - 200.0).abs() < 1e-9);
+    }
+
+    /// An exponential tail still at a tenth of its peak in the last 5 % of the run is warned
+    /// about (the step between the baseline's ends).
+    #[test]
+    fn a_signal_still_falling_at_the_end_is_warned_about() {
+        let time: Vec<f64> = (0..=400).map(|i| i as f64).collect();
+        let q: Vec<f64> = time
+            .iter()
+            .map(|&t| {
+                if t < 50.0 {
+                    0.0
+                } else {
+                    10.0 * (-(t - 50.0) / 150.0).exp()
+                }
+            })
+            .collect();
+        let dosed: Vec<f64> = time.iter().map(|&t| (t / 100.0).min(1.0)).collect();
+        let temp = vec![300.0; time.len()];
+        let run = RunSeries {
+            time: &time,
+            reactor_temperature: &temp,
+            heat_flow: &q,
+            dosed: &dosed,
+        };
+        let h = analyse_heat(&run, BaselineLimits::default_for(&time)).unwrap();
+        assert!(
+            h.warnings.iter().any(|w| w.code == "baseline_step"),
+            "{:?}",
+            h.warnings
+        );
     }
 }
