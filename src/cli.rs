@@ -42,6 +42,11 @@ pub enum Command {
     /// accumulation, and (isothermal runs at two or more temperatures) k_ref and Ea.
     #[command(after_help = LAB_EXIT_CODES)]
     Calorimetry(CalorimetryArgs),
+    /// Analyse DSC scans (CSV with units in the header): onset, peak, energy of each; with two
+    /// or more heating rates Kissinger and Flynn–Wall–Ozawa kinetics; a decomposition block
+    /// for a case and the TD24 it implies.
+    #[command(after_help = DSC_EXIT_CODES)]
+    Dsc(DscArgs),
 }
 
 const LAB_EXIT_CODES: &str = "Exit status:
@@ -241,6 +246,7 @@ pub fn run(cli: Cli) -> Result<Outcome, AppError> {
         Command::Limit(args) => limit(&args),
         Command::Arc(args) => arc(&args),
         Command::Calorimetry(args) => calorimetry(&args),
+        Command::Dsc(args) => dsc(&args),
     }
 }
 
@@ -344,5 +350,157 @@ fn gate(fail_at: Option<u8>, class: Option<u8>) -> Outcome {
             eprintln!("exoscreen: stage gate failed: {why}");
             Outcome::GateFailed
         }
+    }
+}
+
+const DSC_EXIT_CODES: &str = "Exit status:
+  0  the scans were analysed
+  1  an analysis failed (no exotherm, no onset; the message names the file)
+  2  bad input or usage (the message names file, row and column, and what would be accepted)
+
+A scan file: `# key: value` lines at the top (e.g. `# sample_mass: 4.2 mg`), then a header of
+`name [unit]` cells: `time [min]`, `temperature [degC]`, `heat_flow [mW]` or `heat_flow [W/g]`.";
+
+#[derive(Debug, clap::Args)]
+pub struct DscArgs {
+    /// The scans, one CSV file each.
+    #[arg(required = true, value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+    /// Heating rate (e.g. "10 K/min") instead of the one fitted from the time and temperature
+    /// columns: once for every file, or once per file in order.
+    #[arg(long, value_name = "RATE", value_parser = parse_rate)]
+    pub rate: Vec<f64>,
+    /// Baseline limits as two temperatures (e.g. "120 degC, 260 degC") instead of the automatic
+    /// baseline: once for every file, or once per file in order.
+    #[arg(long, value_name = "T1, T2", value_parser = parse_limits)]
+    pub baseline: Vec<(f64, f64)>,
+    /// Sample mass (e.g. "4.2 mg") for absolute heat flows, instead of `# sample_mass:`.
+    #[arg(long, value_name = "MASS", value_parser = parse_mass)]
+    pub sample_mass: Option<f64>,
+    /// The heat flow is endotherm-up (exotherms negative); the default is exotherm-up.
+    #[arg(long)]
+    pub endo_up: bool,
+    /// Specific heat of the reaction mass for TD24 (e.g. "1.8 kJ/(kg*K)"); 1.8 kJ/(kg K)
+    /// assumed when not given (said in the report).
+    #[arg(long, value_name = "CP", value_parser = parse_specific_heat)]
+    pub specific_heat: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+fn dsc(args: &DscArgs) -> Result<Outcome, AppError> {
+    use crate::lab::dsc::ScanOptions;
+    use crate::lab::{LabError, Table};
+    let n = args.files.len();
+    let rates = per_file(&args.rate, n, "--rate")?;
+    let limits = per_file(&args.baseline, n, "--baseline")?;
+    let mut tables = Vec::with_capacity(n);
+    let mut errors = Vec::new();
+    for path in &args.files {
+        match Table::read(path) {
+            Ok(t) => tables.push(t),
+            Err(LabError::Invalid(list)) => errors.extend(list),
+            Err(e) => return Err(e.into()),
+        }
+    }
+    if !errors.is_empty() {
+        return Err(LabError::Invalid(errors).into());
+    }
+    let options: Vec<ScanOptions> = (0..n)
+        .map(|i| ScanOptions {
+            rate: rates[i],
+            baseline: limits[i],
+            sample_mass: args.sample_mass,
+            endo_up: args.endo_up,
+        })
+        .collect();
+    let study = crate::lab::study::study(&tables, &options, args.specific_heat)?;
+    let text = match args.format {
+        Format::Table => crate::report::dsc::render_table(&study),
+        Format::Json => crate::report::dsc::render_json(&study),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(Outcome::Computed)
+}
+
+/// An option given never, once (for every file) or once per file.
+fn per_file<T: Copy>(values: &[T], files: usize, option: &str) -> Result<Vec<Option<T>>, AppError> {
+    match values.len() {
+        0 => Ok(vec![None; files]),
+        1 => Ok(vec![Some(values[0]); files]),
+        k if k == files => Ok(values.iter().map(|v| Some(*v)).collect()),
+        k => Err(crate::lab::LabError::at(
+            "command line",
+            0,
+            0,
+            format!("{k} {option} values for {files} files"),
+            format!("{option} once for every file, or once per file ({files})"),
+        )
+        .into()),
+    }
+}
+
+/// A quantity of one dimension from an option, in SI.
+fn option_quantity(
+    text: &str,
+    dimension: crate::case::units::Dimension,
+    example: &str,
+) -> Result<f64, String> {
+    let q = crate::case::units::parse_quantity(text)
+        .map_err(|e| format!("`{text}`: {}; accepted: e.g. \"{example}\"", e.message))?;
+    if !q.dimension.approx_eq(&dimension) || q.unit_text.is_empty() {
+        return Err(format!(
+            "`{text}` is not a quantity of the right kind; accepted: e.g. \"{example}\""
+        ));
+    }
+    Ok(q.value_si)
+}
+
+fn positive_option(value: f64, text: &str, example: &str) -> Result<f64, String> {
+    if value > 0.0 {
+        Ok(value)
+    } else {
+        Err(format!(
+            "`{text}` must be above zero; accepted: e.g. \"{example}\""
+        ))
+    }
+}
+
+fn parse_rate(text: &str) -> Result<f64, String> {
+    use crate::case::units::Dimension;
+    let rate = Dimension::TEMPERATURE.div(Dimension::TIME);
+    positive_option(option_quantity(text, rate, "10 K/min")?, text, "10 K/min")
+}
+
+fn parse_mass(text: &str) -> Result<f64, String> {
+    let mass = crate::case::units::Dimension::MASS;
+    positive_option(option_quantity(text, mass, "4.2 mg")?, text, "4.2 mg")
+}
+
+fn parse_specific_heat(text: &str) -> Result<f64, String> {
+    use crate::case::units::Dimension;
+    let cp = Dimension::new(2.0, 0.0, -2.0, -1.0, 0.0);
+    let example = "1.8 kJ/(kg*K)";
+    positive_option(option_quantity(text, cp, example)?, text, example)
+}
+
+fn parse_limits(text: &str) -> Result<(f64, f64), String> {
+    use crate::case::units::Dimension;
+    let example = "120 degC, 260 degC";
+    let parts: Vec<&str> = text.split([',', ';']).collect();
+    let [low, high] = parts.as_slice() else {
+        return Err(format!(
+            "`{text}` is not two temperatures; accepted: e.g. \"{example}\""
+        ));
+    };
+    let low = option_quantity(low.trim(), Dimension::TEMPERATURE, example)?;
+    let high = option_quantity(high.trim(), Dimension::TEMPERATURE, example)?;
+    if low < high {
+        Ok((low, high))
+    } else {
+        Err(format!(
+            "`{text}`: the first limit must be the lower; accepted: e.g. \"{example}\""
+        ))
     }
 }

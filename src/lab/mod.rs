@@ -3,7 +3,13 @@
 
 pub mod arc;
 pub mod calorimetry;
+pub mod decomposition;
+pub mod dsc;
 pub mod error;
+pub mod fit;
+pub mod kinetics;
+pub mod study;
+pub mod synthetic;
 pub mod table;
 
 pub use error::{LabError, PlacedError};

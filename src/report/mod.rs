@@ -5,6 +5,7 @@ pub mod atomic;
 pub mod calorimetry;
 pub mod cautions;
 pub mod csv;
+pub mod dsc;
 pub mod json;
 pub mod limit;
 pub mod table;
