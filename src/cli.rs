@@ -40,6 +40,14 @@ pub enum Command {
     /// estimate to be confirmed by reaction calorimetry.
     #[command(after_help = ENTHALPY_HELP)]
     Enthalpy(EnthalpyArgs),
+    /// Figures of an adiabatic (accelerating-rate) run corrected to phi = 1: onset, adiabatic
+    /// rise, activation energy, TMRad curve, and a `decomposition:` entry.
+    #[command(after_help = LAB_EXIT_CODES)]
+    Arc(ArcArgs),
+    /// Reaction-calorimeter runs: enthalpy per mole of the dosed reagent, thermal conversion,
+    /// accumulation, and (isothermal runs at two or more temperatures) k_ref and Ea.
+    #[command(after_help = LAB_EXIT_CODES)]
+    Calorimetry(CalorimetryArgs),
     /// Analyse DSC scans (CSV with units in the header): onset, peak, energy of each; with two
     /// or more heating rates Kissinger and Flynn–Wall–Ozawa kinetics; a decomposition block
     /// for a case and the TD24 it implies.
@@ -98,6 +106,128 @@ pub struct EnthalpyArgs {
     /// (each a prefix of a source tag), e.g. "CRC,JANAF".
     #[arg(long, value_name = "SOURCES", value_delimiter = ',')]
     pub prefer: Vec<String>,
+}
+
+const LAB_EXIT_CODES: &str = "Exit status:
+  0  the figures were computed
+  1  the analysis failed on well-formed data (the message says why)
+  2  bad input or usage (the message names file, row and column)";
+
+#[derive(Debug, clap::Args)]
+pub struct ArcArgs {
+    /// The data file (CSV, `name [unit]` header: time, temperature, optional pressure).
+    pub file: PathBuf,
+    /// The phi factor of the cell (overrides `# phi` and the masses in the file).
+    #[arg(long, value_parser = parse_phi)]
+    pub phi: Option<f64>,
+    /// Self-heat rate from which the exotherm counts, e.g. "0.02 K/min" (the default).
+    #[arg(long, value_name = "RATE", value_parser = parse_heat_rate)]
+    pub threshold: Option<f64>,
+    /// Apparent reaction order n in (1 - X)^n of the Arrhenius fit (default 1).
+    #[arg(long, value_parser = parse_order)]
+    pub order: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct CalorimetryArgs {
+    /// One or more runs (CSV: time, reactor_temperature, optional jacket_temperature,
+    /// heat_flow, dosed in kg or mol; kinetics metadata `# charge_amount`, `# volume`,
+    /// `# feed_volume`).
+    #[arg(required = true)]
+    pub files: Vec<PathBuf>,
+    /// Molar amount of the whole feed, when `dosed` is a mass (overrides `# feed_amount`).
+    #[arg(long, value_name = "AMOUNT", value_parser = parse_amount)]
+    pub feed_amount: Option<f64>,
+    /// Baseline windows: the signal before START and after END, e.g. "0.4 h,6 h" (default:
+    /// the first and last 5 % of each run).
+    #[arg(long, value_name = "START,END", value_parser = parse_baseline)]
+    pub baseline: Option<(f64, f64)>,
+    /// Order of the rate in the charged reactant A.
+    #[arg(long, default_value_t = 1.0, value_parser = parse_order)]
+    pub order_charged: f64,
+    /// Order of the rate in the dosed reactant B.
+    #[arg(long, default_value_t = 1.0, value_parser = parse_order)]
+    pub order_dosed: f64,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+fn parse_phi(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(v) if v.is_finite() && v >= 1.0 => Ok(v),
+        _ => Err(format!(
+            "`{text}` is not a phi factor (accepted: a number >= 1, e.g. 1.8)"
+        )),
+    }
+}
+
+fn parse_order(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(v) if v.is_finite() && (0.0..=5.0).contains(&v) => Ok(v),
+        _ => Err(format!(
+            "`{text}` is not a reaction order (accepted: a number from 0 to 5)"
+        )),
+    }
+}
+
+fn parse_si(
+    text: &str,
+    dimension: crate::case::units::Dimension,
+    example: &str,
+) -> Result<f64, String> {
+    let bad = || format!("`{text}` is not accepted (accepted: e.g. \"{example}\")");
+    let q = crate::case::units::parse_quantity(text)
+        .map_err(|e| format!("{}; {}", e.message, bad()))?;
+    if q.dimension.approx_eq(&dimension) && !q.affine && q.value_si.is_finite() {
+        Ok(q.value_si)
+    } else {
+        Err(bad())
+    }
+}
+
+fn parse_heat_rate(text: &str) -> Result<f64, String> {
+    use crate::case::units::Dimension;
+    let v = parse_si(
+        text,
+        Dimension::TEMPERATURE.div(Dimension::TIME),
+        "0.02 K/min",
+    )?;
+    if v > 0.0 {
+        Ok(v)
+    } else {
+        Err(format!("`{text}`: the threshold must be positive"))
+    }
+}
+
+fn parse_amount(text: &str) -> Result<f64, String> {
+    let v = parse_si(text, crate::case::units::Dimension::AMOUNT, "2.5 mol")?;
+    if v > 0.0 {
+        Ok(v)
+    } else {
+        Err(format!("`{text}`: the feed amount must be positive"))
+    }
+}
+
+fn parse_baseline(text: &str) -> Result<(f64, f64), String> {
+    use crate::case::units::Dimension;
+    let Some((a, b)) = text.split_once(',') else {
+        return Err(format!(
+            "`{text}` is not START,END (accepted: e.g. \"0.4 h,6 h\")"
+        ));
+    };
+    let (a, b) = (
+        parse_si(a, Dimension::TIME, "0.4 h")?,
+        parse_si(b, Dimension::TIME, "6 h")?,
+    );
+    if a < b {
+        Ok((a, b))
+    } else {
+        Err(format!("`{text}`: START must be before END"))
+    }
 }
 
 const LIMIT_EXIT_CODES: &str = "Exit status:
@@ -196,6 +326,8 @@ pub fn run(cli: Cli) -> Result<Outcome, AppError> {
         Command::Check(args) => check(&args),
         Command::Limit(args) => limit(&args),
         Command::Enthalpy(args) => enthalpy(&args),
+        Command::Arc(args) => arc(&args),
+        Command::Calorimetry(args) => calorimetry(&args),
         Command::Dsc(args) => dsc(&args),
     }
 }
@@ -230,6 +362,48 @@ fn enthalpy(args: &EnthalpyArgs) -> Result<Outcome, AppError> {
     let text = match args.format {
         Format::Table => render_table(&estimate),
         Format::Json => render_json(&estimate),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(Outcome::Computed)
+}
+
+fn arc(args: &ArcArgs) -> Result<Outcome, AppError> {
+    use crate::lab::arc::input::{ArcOptions, analyse_table};
+    let table = crate::lab::Table::read(&args.file)?;
+    let options = ArcOptions {
+        phi: args.phi,
+        threshold: args.threshold,
+        order: args.order,
+    };
+    let run = analyse_table(&table, &options)?;
+    let source = Source {
+        file: args.file.display().to_string(),
+    };
+    let text = match args.format {
+        Format::Table => crate::report::arc::render_table(&run, &source),
+        Format::Json => crate::report::arc::render_json(&run, &source),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(Outcome::Computed)
+}
+
+fn calorimetry(args: &CalorimetryArgs) -> Result<Outcome, AppError> {
+    use crate::lab::calorimetry::input::{CalorimetryOptions, analyse_files};
+    let tables = args
+        .files
+        .iter()
+        .map(|f| crate::lab::Table::read(f))
+        .collect::<Result<Vec<_>, _>>()?;
+    let options = CalorimetryOptions {
+        feed_amount: args.feed_amount,
+        baseline: args.baseline,
+        order_charged: args.order_charged,
+        order_dosed: args.order_dosed,
+    };
+    let study = analyse_files(&tables, &options)?;
+    let text = match args.format {
+        Format::Table => crate::report::calorimetry::render_table(&study),
+        Format::Json => crate::report::calorimetry::render_json(&study),
     };
     std::io::stdout().lock().write_all(text.as_bytes())?;
     Ok(Outcome::Computed)

@@ -1,6 +1,8 @@
 //! Lab data in: tabular measurements (DSC scans, calorimeter records) read from CSV with units
 //! in the header, and the analyses that turn them into case-file data.
 
+pub mod arc;
+pub mod calorimetry;
 pub mod decomposition;
 pub mod dsc;
 pub mod error;

@@ -1,6 +1,8 @@
 //! Reports: one exporter per format behind one trait.
 
+pub mod arc;
 pub mod atomic;
+pub mod calorimetry;
 pub mod cautions;
 pub mod csv;
 pub mod dsc;
