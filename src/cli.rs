@@ -53,6 +53,42 @@ pub enum Command {
     /// for a case and the TD24 it implies.
     #[command(after_help = DSC_EXIT_CODES)]
     Dsc(DscArgs),
+    /// The same recipe in geometrically similar vessels from lab to plant: cooling area and
+    /// capacity per volume, U, time constant, peak power, temperatures, class and the coolant
+    /// each scale needs.
+    #[command(after_help = SCALE_EXIT_CODES)]
+    Scale(ScaleArgs),
+}
+
+const SCALE_EXIT_CODES: &str = "Exit status:
+  0  every scale was computed
+  1  the computation at one of the scales failed (the message names the volume and why)
+  2  bad input or usage (a --volumes item that is not a volume; the case's file, line and key)";
+
+#[derive(Debug, clap::Args)]
+pub struct ScaleArgs {
+    /// The case file (YAML, format 1).
+    pub case: PathBuf,
+    /// Nominal volumes of the vessels, with units, separated by commas.
+    #[arg(long, default_value = "1 L, 100 L, 1 m^3, 4 m^3, 16 m^3")]
+    pub volumes: String,
+    /// How the impeller speed follows the scale (with vessel.heat_transfer).
+    #[arg(long, value_enum, default_value_t = SpeedRuleArg::PowerPerVolume)]
+    pub speed_rule: SpeedRuleArg,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// Wall-clock budget of the whole ladder, seconds; past it the run ends with exit status 1.
+    #[arg(long, value_name = "SECONDS", default_value_t = crate::assess::TIME_BUDGET.as_secs_f64(), value_parser = positive_seconds)]
+    pub time_budget: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum SpeedRuleArg {
+    /// Constant power per volume (N ∝ d^(-2/3)).
+    PowerPerVolume,
+    /// Constant tip speed (N ∝ 1/d).
+    TipSpeed,
 }
 
 const ENTHALPY_HELP: &str =
@@ -300,6 +336,8 @@ pub enum AppError {
     /// Lab data (`crate::lab`): exit 2 for bad input, 1 for an analysis that failed.
     #[error("{0}")]
     Lab(#[from] crate::lab::LabError),
+    #[error("{0}")]
+    Scale(#[from] crate::assess::scale::ScaleError),
 }
 
 impl AppError {
@@ -310,6 +348,7 @@ impl AppError {
             AppError::Estimate(_) => 1,
             AppError::Assess(_) | AppError::Output(_) | AppError::EnvelopeFile(..) => 1,
             AppError::Lab(e) => e.exit_code(),
+            AppError::Scale(e) => e.exit_code(),
         }
     }
 }
@@ -329,7 +368,33 @@ pub fn run(cli: Cli) -> Result<Outcome, AppError> {
         Command::Arc(args) => arc(&args),
         Command::Calorimetry(args) => calorimetry(&args),
         Command::Dsc(args) => dsc(&args),
+        Command::Scale(args) => scale(&args),
     }
+}
+
+fn scale(args: &ScaleArgs) -> Result<Outcome, AppError> {
+    use crate::assess::scale::{parse_volumes, scale_ladder};
+    use crate::model::film::SpeedRule;
+    use crate::report::scale::{render_json, render_table};
+    let volumes = parse_volumes(&args.volumes)?;
+    let case = load_case_file(&args.case)?;
+    let plant = crate::model::plant::Plant::from_case(&case)
+        .map_err(|e| AssessError::Geometry(e.to_string()))?;
+    let rule = match args.speed_rule {
+        SpeedRuleArg::PowerPerVolume => SpeedRule::PowerPerVolume,
+        SpeedRuleArg::TipSpeed => SpeedRule::TipSpeed,
+    };
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs_f64(args.time_budget);
+    let ladder = scale_ladder(&plant, &volumes, rule, Some(deadline))?;
+    let source = Source {
+        file: args.case.display().to_string(),
+    };
+    let text = match args.format {
+        Format::Table => render_table(&case, &ladder, &source),
+        Format::Json => render_json(&case, &ladder, &source),
+    };
+    std::io::stdout().lock().write_all(text.as_bytes())?;
+    Ok(Outcome::Computed)
 }
 
 fn enthalpy(args: &EnthalpyArgs) -> Result<Outcome, AppError> {

@@ -9,6 +9,7 @@ pub mod dsc;
 pub mod enthalpy;
 pub mod json;
 pub mod limit;
+pub mod scale;
 pub mod table;
 
 use crate::assess::Assessment;
