@@ -186,6 +186,48 @@ const CORPUS: &[(&str, Expect)] = &[
         )]),
     ),
     (
+        "scale-up-bare-number.yaml",
+        Errors(&[("scale_up.volumes[1]", 59, "a bare number without a unit")]),
+    ),
+    (
+        "scale-up-empty-volumes.yaml",
+        Errors(&[("scale_up.volumes", 59, "the list of volumes is empty")]),
+    ),
+    (
+        "scale-up-not-a-list.yaml",
+        Errors(&[("scale_up.volumes", 59, "where the case layout has a list")]),
+    ),
+    (
+        "scale-up-not-a-volume.yaml",
+        Errors(&[
+            ("scale_up.volumes[1]", 61, "this key takes a volume (m^3)"),
+            ("scale_up.volumes[2]", 62, "a volume must be more than zero"),
+        ]),
+    ),
+    (
+        "scale-up-speed-rule.yaml",
+        Errors(&[(
+            "scale_up.speed_rule",
+            60,
+            "\"constant_speed\" is not a choice here",
+        )]),
+    ),
+    (
+        "scale-up-too-many.yaml",
+        Errors(&[("scale_up.volumes", 59, "13 volumes are given, more than 12")]),
+    ),
+    (
+        "scale-up-unknown-key.yaml",
+        Errors(&[
+            ("scale_up.volume", 59, "unknown key \"volume\" in scale_up"),
+            (
+                "scale_up.volumes",
+                59,
+                "the required key \"volumes\" is missing",
+            ),
+        ]),
+    ),
+    (
         "several-errors.yaml",
         Errors(&[
             ("charge.mass", 9, "a mass must be more than zero"),

@@ -43,6 +43,9 @@ pub struct Case {
     pub solvent: Option<Solvent>,
     pub condenser: Option<Condenser>,
     pub limit_settings: LimitSettings,
+    /// `scale_up`: the scales the case asks for (the `scale` command and the report's scale
+    /// section); no effect on the figures of the case itself.
+    pub scale_up: Option<ScaleUp>,
     /// Questionable but possible inputs, found while checking the case.
     pub input_warnings: Vec<Warning>,
 }
@@ -163,6 +166,13 @@ pub struct Solvent {
 #[derive(Debug, Clone)]
 pub struct Condenser {
     pub capacity: Power,
+}
+
+/// The nominal volumes of geometrically similar vessels and the impeller's speed rule.
+#[derive(Debug, Clone)]
+pub struct ScaleUp {
+    pub volumes: Vec<Volume>,
+    pub speed_rule: crate::model::film::SpeedRule,
 }
 
 /// Settings of the dosing-limit criteria (`limits`).

@@ -225,6 +225,7 @@ section! {
         pub limits: Option<RawLimits>,
         pub solvent: Option<RawSolvent>,
         pub condenser: Option<RawCondenser>,
+        pub scale_up: Option<RawScaleUp>,
     }
 }
 
@@ -398,6 +399,15 @@ section! {
     }
 }
 
+section! {
+    /// The scales the case asks for: nominal volumes of geometrically similar vessels and how
+    /// the impeller speed follows them.
+    pub struct RawScaleUp {
+        pub volumes: Option<Vec<Scalar>>,
+        pub speed_rule: Option<Scalar>,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -442,7 +452,8 @@ mod tests {
         RawImpeller,
         RawContents,
         RawLab,
-        RawMeasurement
+        RawMeasurement,
+        RawScaleUp
     );
 
     #[test]
@@ -464,6 +475,7 @@ mod tests {
         listed_keys_are_fields::<RawContents>();
         listed_keys_are_fields::<RawLab>();
         listed_keys_are_fields::<RawMeasurement>();
+        listed_keys_are_fields::<RawScaleUp>();
         assert!(RawImpeller::KEYS.contains(&"type"));
     }
 

@@ -6,8 +6,8 @@ use super::error::InputError;
 use super::positions::PositionMap;
 use super::schema::{
     Keys, RawCase, RawCondenser, RawCoolant, RawDecomposition, RawFailure, RawFeed, RawLimits,
-    RawProcess, RawReaction, RawSolvent, RawSpecies, RawStream, RawVessel, Scalar, ScalarMap,
-    Shape, UnknownKeys,
+    RawProcess, RawReaction, RawScaleUp, RawSolvent, RawSpecies, RawStream, RawVessel, Scalar,
+    ScalarMap, Shape, UnknownKeys,
 };
 use super::units::{Dimension, parse_quantity};
 use super::{
@@ -22,6 +22,7 @@ use std::collections::BTreeMap;
 use uom::si::f64::*;
 
 mod film;
+mod scale_up;
 use uom::si::{
     amount_of_substance::mole, available_energy::joule_per_kilogram,
     heat_capacity::joule_per_kelvin, heat_transfer::watt_per_square_meter_kelvin, length::meter,
@@ -531,7 +532,12 @@ impl Checker<'_> {
                 RawReaction::KEYS,
             );
         }
-        let sections: [(&str, Option<&UnknownKeys>, &[&str]); 8] = [
+        let sections: [(&str, Option<&UnknownKeys>, &[&str]); 9] = [
+            (
+                "scale_up",
+                raw.scale_up.as_ref().map(|r| &r.unknown),
+                RawScaleUp::KEYS,
+            ),
             (
                 "solvent",
                 raw.solvent.as_ref().map(|r| &r.unknown),
@@ -616,6 +622,7 @@ impl Checker<'_> {
         let limit_settings = self.limit_settings(raw.limits.as_ref());
         let solvent = raw.solvent.as_ref().and_then(|r| self.solvent(r));
         let condenser = raw.condenser.as_ref().and_then(|r| self.condenser(r));
+        let scale_up = raw.scale_up.as_ref().map(|r| self.scale_up(r));
         let mtt = self.quantity(
             "limits.mtt",
             raw.limits.as_ref().and_then(|l| l.mtt.as_ref()),
@@ -648,6 +655,11 @@ impl Checker<'_> {
                 (_, found) => found,
             },
             limit_settings: limit_settings?,
+            scale_up: match scale_up {
+                Some(None) => return None,
+                Some(found) => found,
+                None => None,
+            },
             process_temperature: ThermodynamicTemperature::new::<kelvin>(process_temperature?),
             process_duration: Time::new::<second>(process_duration?),
             failure: failure?,
