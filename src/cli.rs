@@ -65,16 +65,21 @@ const SCALE_EXIT_CODES: &str = "Exit status:
   1  the computation at one of the scales failed (the message names the volume and why)
   2  bad input or usage (a --volumes item that is not a volume; the case's file, line and key)";
 
+/// The ladder of `scale` when neither the command line nor the case's `scale_up` gives one.
+pub const DEFAULT_SCALE_VOLUMES: &str = "1 L, 100 L, 1 m^3, 4 m^3, 16 m^3";
+
 #[derive(Debug, clap::Args)]
 pub struct ScaleArgs {
     /// The case file (YAML, format 1).
     pub case: PathBuf,
-    /// Nominal volumes of the vessels, with units, separated by commas.
-    #[arg(long, default_value = "1 L, 100 L, 1 m^3, 4 m^3, 16 m^3")]
-    pub volumes: String,
-    /// How the impeller speed follows the scale (with vessel.heat_transfer).
-    #[arg(long, value_enum, default_value_t = SpeedRuleArg::PowerPerVolume)]
-    pub speed_rule: SpeedRuleArg,
+    /// Nominal volumes of the vessels, with units, separated by commas [default: the case's
+    /// scale_up.volumes, else "1 L, 100 L, 1 m^3, 4 m^3, 16 m^3"].
+    #[arg(long)]
+    pub volumes: Option<String>,
+    /// How the impeller speed follows the scale (with vessel.heat_transfer) [default: the
+    /// case's scale_up.speed_rule, else power-per-volume].
+    #[arg(long, value_enum)]
+    pub speed_rule: Option<SpeedRuleArg>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -376,13 +381,27 @@ fn scale(args: &ScaleArgs) -> Result<Outcome, AppError> {
     use crate::assess::scale::{parse_volumes, scale_ladder};
     use crate::model::film::SpeedRule;
     use crate::report::scale::{render_json, render_table};
-    let volumes = parse_volumes(&args.volumes)?;
+    use uom::si::volume::cubic_meter;
+    // The command line's volumes first, so that a bad item is named before the case is read.
+    let given = args.volumes.as_deref().map(parse_volumes).transpose()?;
     let case = load_case_file(&args.case)?;
     let plant = crate::model::plant::Plant::from_case(&case)
         .map_err(|e| AssessError::Geometry(e.to_string()))?;
-    let rule = match args.speed_rule {
-        SpeedRuleArg::PowerPerVolume => SpeedRule::PowerPerVolume,
-        SpeedRuleArg::TipSpeed => SpeedRule::TipSpeed,
+    let asked = case.scale_up.as_ref();
+    let volumes = match (given, asked) {
+        (Some(given), _) => given,
+        (None, Some(asked)) => asked
+            .volumes
+            .iter()
+            .map(|v| v.get::<cubic_meter>())
+            .collect(),
+        (None, None) => parse_volumes(DEFAULT_SCALE_VOLUMES)?,
+    };
+    let rule = match (args.speed_rule, asked) {
+        (Some(SpeedRuleArg::PowerPerVolume), _) => SpeedRule::PowerPerVolume,
+        (Some(SpeedRuleArg::TipSpeed), _) => SpeedRule::TipSpeed,
+        (None, Some(asked)) => asked.speed_rule,
+        (None, None) => SpeedRule::PowerPerVolume,
     };
     let deadline = std::time::Instant::now() + std::time::Duration::from_secs_f64(args.time_budget);
     let ladder = scale_ladder(&plant, &volumes, rule, Some(deadline))?;

@@ -10,6 +10,7 @@ pub mod enthalpy;
 pub mod json;
 pub mod limit;
 pub mod scale;
+pub mod scale_section;
 pub mod table;
 
 use crate::assess::Assessment;
