@@ -3,9 +3,11 @@
 pub mod atomic;
 pub mod cautions;
 pub mod csv;
+pub mod document;
 pub mod json;
 pub mod limit;
 pub mod table;
+pub mod timeseries_csv;
 
 use crate::assess::Assessment;
 
