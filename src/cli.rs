@@ -135,6 +135,8 @@ pub enum AppError {
     CaseBytes(String, std::io::Error),
     #[error("cannot write the report: {0}")]
     ReportDirectory(#[from] DirectoryError),
+    #[error("computation failed: the report's time series: {0}")]
+    Series(#[from] crate::report::series::SeriesError),
 }
 
 impl AppError {
@@ -146,6 +148,7 @@ impl AppError {
             AppError::Assess(_)
             | AppError::Output(_)
             | AppError::EnvelopeFile(..)
+            | AppError::Series(_)
             | AppError::ReportDirectory(DirectoryError::Io(..)) => 1,
         }
     }
@@ -193,9 +196,10 @@ fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
 
 fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
     use crate::assess::limit::{LimitSettings, dosing_limit};
-    use crate::report::document::pending::{all_plots, sample};
+    use crate::report::document::pending::all_plots;
     use crate::report::document::provenance::Provenance;
     use crate::report::document::{LimitPart, Parts, build, files::report_files};
+    use crate::report::series::sample;
     let out = args.out.display().to_string();
     // Fail before the computation when DIR is in the way (checked again when writing).
     if args.out.symlink_metadata().is_ok() && !args.force {
@@ -222,7 +226,7 @@ fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
         Some(Ok(l)) => LimitPart::Found(l),
         Some(Err(e)) => LimitPart::Failed(e.to_string()),
     };
-    let series = sample(&assessment, REPORT_SERIES_POINTS);
+    let series = sample(&assessment, REPORT_SERIES_POINTS)?;
     let plots = all_plots(&assessment, &series);
     let provenance = Provenance::new(
         case_file,

@@ -107,13 +107,20 @@ fn every_demo_report_renders_in_chromium_with_all_its_figures() {
         let dump = chromium(
             &browser,
             &profile,
-            &["--enable-logging=stderr".to_string(), "--dump-dom".to_string(), url],
+            &[
+                "--enable-logging=stderr".to_string(),
+                "--dump-dom".to_string(),
+                url,
+            ],
         );
         assert!(dump.status.success(), "{case}: chromium --dump-dom failed");
         // The page's console: a script error or a resource that failed to load shows here.
         let log = String::from_utf8_lossy(&dump.stderr);
         for sign in ["Uncaught", "Failed to load resource", "net::ERR_"] {
-            assert!(!log.contains(sign), "{case}: the page logged {sign}:\n{log}");
+            assert!(
+                !log.contains(sign),
+                "{case}: the page logged {sign}:\n{log}"
+            );
         }
         let dom = String::from_utf8_lossy(&dump.stdout);
         assert!(dom.contains("</main>"), "{case}: the page loaded whole");

@@ -1,10 +1,7 @@
 //! `timeseries.csv` of the stage-gate report: normal operation and the worst cooling
 //! failure, one row a sampled time, in report units.
 
-use crate::report::celsius;
-use crate::report::document::pending::{Series, SeriesPoint};
-
-const HOUR: f64 = 3600.0;
+use crate::report::series::{Series, SeriesPoint};
 
 /// The header; each column's unit in brackets.
 pub const HEADER: [&str; 10] = [
@@ -12,7 +9,7 @@ pub const HEADER: [&str; 10] = [
     "time [h]",
     "T [degC]",
     "coolant T [degC]",
-    "fill [m3]",
+    "fill [-]",
     "conversion [-]",
     "accumulation [-]",
     "reaction power [kW]",
@@ -35,14 +32,14 @@ pub fn timeseries_csv(series: &Series) -> Vec<u8> {
 fn row(scenario: &str, p: &SeriesPoint) -> Vec<String> {
     vec![
         scenario.to_string(),
-        format!("{:.5}", p.time / HOUR),
-        format!("{:.3}", celsius(p.temperature)),
-        format!("{:.3}", celsius(p.coolant_temperature)),
+        format!("{:.5}", p.time_h),
+        format!("{:.3}", p.temperature_C),
+        format!("{:.3}", p.coolant_C),
         format!("{:.5}", p.fill),
         format!("{:.6}", p.conversion),
         format!("{:.6}", p.accumulation),
-        format!("{:.4}", p.reaction_power / 1e3),
-        format!("{:.4}", p.cooling_power / 1e3),
-        format!("{:.4}", p.off_gas * HOUR),
+        format!("{:.4}", p.reaction_power_kW),
+        format!("{:.4}", p.cooling_power_kW),
+        format!("{:.4}", p.off_gas_kg_h),
     ]
 }

@@ -21,13 +21,18 @@ pub const FIGURE_HEADER: [&str; 6] = [
     "method source",
 ];
 
-pub const STOESSEL_BOOK: &str = "Stoessel, Thermal Safety of Chemical Processes, Wiley-VCH (2008)";
-pub const STOESSEL_CLASSES: &str =
-    "Stoessel, Chem. Eng. Prog. 89(10) (1993) 68–75: criticality classes";
-pub const TOWNSEND_TOU: &str =
-    "Townsend and Tou, Thermochim. Acta 37 (1980) 1–30: zero-order TMRad";
-pub const OWN_INTEGRATION: &str =
-    "this tool's integration of the heat balance (Dormand–Prince 5(4), rtol 1e-9)";
+/// Short citations in the table; `REFERENCES` gives them in full.
+pub const STOESSEL_BOOK: &str = "[1] Stoessel 2008";
+pub const STOESSEL_CLASSES: &str = "[2] Stoessel 1993";
+pub const TOWNSEND_TOU: &str = "[3] Townsend and Tou 1980";
+pub const OWN_INTEGRATION: &str = "[4] this tool";
+
+pub const REFERENCES: [&str; 4] = [
+    "F. Stoessel, Thermal Safety of Chemical Processes, Wiley-VCH (2008): adiabatic temperature rise, thermal accumulation, MTSR, MTT, TD24.",
+    "F. Stoessel, Chem. Eng. Prog. 89(10) (1993) 68–75: the criticality classes from the order of MTSR, MTT and TD24.",
+    "D. I. Townsend, J. C. Tou, Thermochim. Acta 37 (1980) 1–30: the time to maximum rate under adiabatic conditions, zero-order approximation.",
+    "exoscreen's integration of the heat balance of its model contract: adaptive Dormand–Prince 5(4) at a relative tolerance of 1e-9, a stiff method where the reactions become very fast; maxima refined on the dense output; the worst failure time by a sweep refined by golden-section search.",
+];
 
 struct Row<'a> {
     figure: &'a str,
@@ -66,6 +71,8 @@ pub fn section(a: &Assessment) -> Section {
                 rows,
                 numeric: vec![1],
             }),
+            Block::Subheading("Sources of the methods".to_string()),
+            Block::References(REFERENCES.iter().map(|r| r.to_string()).collect()),
         ],
     }
 }
@@ -262,7 +269,7 @@ pub fn after_failure_section(a: &Assessment) -> Option<Section> {
     let mut blocks = Vec::new();
     if let Some(r) = &a.runaway {
         blocks.push(Block::Paragraph(format!(
-            "The full model (decomposition on, the case's dosing rule, interlock and boiling barrier) from the worst cooling failure at {:.2} h, followed for {:.1} h; {OWN_INTEGRATION}.",
+            "The full model (decomposition on, the case's dosing rule, interlock and boiling barrier) from the worst cooling failure at {:.2} h, followed for {:.1} h ({OWN_INTEGRATION}).",
             r.failure_time / HOUR,
             a.plant.failure_horizon / HOUR
         )));

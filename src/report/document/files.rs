@@ -1,8 +1,9 @@
 //! The files of a stage-gate report, built in memory before any is written: report.html,
 //! report.md, timeseries.csv and the plots.
 
-use super::pending::{Plot, Series};
+use super::pending::Plot;
 use super::{Document, html, markdown};
+use crate::report::series::Series;
 use crate::report::timeseries_csv::timeseries_csv;
 
 pub const HTML: &str = "report.html";

@@ -43,6 +43,14 @@ figure.plot { margin: 3mm 0 5mm 0; break-inside: avoid; page-break-inside: avoid
 figure.plot svg { display: block; width: 100%; height: auto; max-height: 120mm; }
 figure.plot figcaption { font-size: 9pt; color: var(--muted); margin-top: 1mm; }
 figure.plot figcaption strong { color: var(--ink); }
+.key-figures { display: grid; grid-template-columns: repeat(4, 1fr); gap: 2mm; margin: 3mm 0;
+  break-inside: avoid; page-break-inside: avoid; }
+.key { border: 1px solid var(--rule); border-radius: 2px; padding: 1.5mm 2mm; }
+.key-label { display: block; font-size: 8.5pt; color: var(--muted); }
+.key.alert { border-color: var(--danger-edge); background: var(--danger); }
+.key.alert .key-value { color: var(--danger-edge); }
+.key-value { display: block; font-size: 13pt; font-weight: 700; font-variant-numeric: tabular-nums; }
+ol.references { font-size: 9pt; padding-left: 7mm; }
 section.new-page { break-before: page; page-break-before: always; }
 #cautions { border: 2px solid var(--danger-edge); padding: 1mm 4mm 2mm 4mm; break-inside: avoid; page-break-inside: avoid; }
 #cautions h2 { border: none; margin-top: 2mm; }
@@ -107,12 +115,17 @@ fn render_block(block: &Block) -> String {
     match block {
         Block::Paragraph(text) => format!("<p>{}</p>\n", escape(text)),
         Block::Subheading(text) => format!("<h3>{}</h3>\n", escape(text)),
-        Block::Callout { tone, title, text } => format!(
-            "<div class=\"callout {}\"><p class=\"callout-title\">{}</p><p>{}</p></div>\n",
-            tone_class(*tone),
-            escape(title),
-            escape(text)
-        ),
+        Block::Callout { tone, title, text } => {
+            let paragraphs: String = text
+                .lines()
+                .map(|l| format!("<p>{}</p>", escape(l)))
+                .collect();
+            format!(
+                "<div class=\"callout {}\"><p class=\"callout-title\">{}</p>{paragraphs}</div>\n",
+                tone_class(*tone),
+                escape(title)
+            )
+        }
         Block::Bullets(items) => {
             let items: String = items
                 .iter()
@@ -126,6 +139,27 @@ fn render_block(block: &Block) -> String {
                 .map(|(t, d)| format!("<dt>{}</dt><dd>{}</dd>", escape(t), escape(d)))
                 .collect();
             format!("<dl>{items}</dl>\n")
+        }
+        Block::KeyFigures(figures) => {
+            let items: String = figures
+                .iter()
+                .map(|k| {
+                    format!(
+                        "<div class=\"key{}\"><span class=\"key-label\">{}</span><span class=\"key-value\">{}</span></div>",
+                        if k.alert { " alert" } else { "" },
+                        escape(&k.label),
+                        escape(&k.value)
+                    )
+                })
+                .collect();
+            format!("<div class=\"key-figures\">{items}</div>\n")
+        }
+        Block::References(items) => {
+            let items: String = items
+                .iter()
+                .map(|i| format!("<li>{}</li>", escape(i)))
+                .collect();
+            format!("<ol class=\"references\">{items}</ol>\n")
         }
         Block::Table(table) => render_table(table),
         Block::Plot(plot) => render_plot(plot),

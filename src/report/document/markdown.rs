@@ -25,12 +25,34 @@ fn render_block(block: &Block) -> String {
         Block::Paragraph(text) => format!("{text}\n"),
         Block::Subheading(text) => format!("### {text}\n"),
         Block::Callout { tone, title, text } => {
+            let text = text.replace('\n', "\n>\n> ");
             format!("> **{}{title}**\n>\n> {text}\n", tone_mark(*tone))
         }
         Block::Bullets(items) => items.iter().map(|i| format!("- {i}\n")).collect(),
         Block::Definitions(pairs) => pairs
             .iter()
             .map(|(t, d)| format!("- **{t}**: {d}\n"))
+            .collect(),
+        Block::KeyFigures(figures) => render_table(&Table {
+            header: figures.iter().map(|k| k.label.clone()).collect(),
+            rows: vec![
+                figures
+                    .iter()
+                    .map(|k| {
+                        if k.alert {
+                            format!("**{}** (!)", k.value)
+                        } else {
+                            k.value.clone()
+                        }
+                    })
+                    .collect(),
+            ],
+            numeric: (0..figures.len()).collect(),
+        }),
+        Block::References(items) => items
+            .iter()
+            .enumerate()
+            .map(|(i, r)| format!("{}. {r}\n", i + 1))
             .collect(),
         Block::Table(t) => render_table(t),
         Block::Plot(p) => format!(

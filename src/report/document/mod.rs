@@ -46,10 +46,22 @@ pub enum Block {
         text: String,
     },
     Bullets(Vec<String>),
+    /// A few figures at a glance.
+    KeyFigures(Vec<KeyFigure>),
+    /// Numbered references: [n] text.
+    References(Vec<String>),
     /// A list of term: explanation pairs.
     Definitions(Vec<(String, String)>),
     Table(Table),
     Plot(Plot),
+}
+
+/// One figure at a glance: its value with its unit, flagged when it reaches a barrier.
+#[derive(Debug, Clone)]
+pub struct KeyFigure {
+    pub label: String,
+    pub value: String,
+    pub alert: bool,
 }
 
 /// How strongly a callout is coloured.

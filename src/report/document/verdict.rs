@@ -2,7 +2,7 @@
 //! barrier a cooling failure reaches first, or the cooling that does not suffice), and what
 //! to do.
 
-use super::{Block, Section, Tone};
+use super::{Block, KeyFigure, Section, Tone};
 use crate::assess::Assessment;
 use crate::assess::class::class_meaning;
 use crate::assess::limit::DosingLimit;
@@ -11,25 +11,14 @@ use crate::report::celsius;
 const HOUR: f64 = 3600.0;
 
 pub fn section(a: &Assessment, limit: Option<&DosingLimit>) -> Section {
-    let f = &a.figures;
-    let (tone, title, meaning) = match f.class {
-        Some(c) => (
-            tone_of(c),
-            format!("Criticality class {c} (of 1 to 5)"),
-            class_meaning(c).to_string(),
-        ),
-        None => (
-            Tone::Danger,
-            "No criticality class".to_string(),
-            "There are no decomposition data, so TD24 and the class cannot be given; the tool does not guess them.".to_string(),
-        ),
-    };
+    let (tone, title, meaning) = headline(a);
     let mut blocks = vec![
         Block::Callout {
             tone,
             title,
             text: meaning,
         },
+        Block::KeyFigures(key_figures(a)),
         Block::Subheading("Binding hazard".to_string()),
         Block::Paragraph(binding_hazard(a)),
     ];
@@ -44,6 +33,82 @@ pub fn section(a: &Assessment, limit: Option<&DosingLimit>) -> Section {
         new_page: false,
         blocks,
     }
+}
+
+/// The class, coloured by the worse of the class and the class with the simulated MTSR, and
+/// what both mean.
+fn headline(a: &Assessment) -> (Tone, String, String) {
+    let f = &a.figures;
+    let Some(class) = f.class else {
+        return (
+            Tone::Danger,
+            "No criticality class".to_string(),
+            "There are no decomposition data, so TD24 and the class cannot be given; the tool does not guess them.".to_string(),
+        );
+    };
+    let title = format!("Criticality class {class} (of 1 to 5)");
+    match f.class_simulated.filter(|s| *s > class) {
+        Some(worse) => (
+            tone_of(worse),
+            format!("{title}, but {worse} with the simulated MTSR"),
+            format!(
+                "Class {class}: {}\nWith the simulated MTSR in place of MTSR (the cooling failure integrated, {}), class {worse}: {}",
+                class_meaning(class),
+                dosing_words(a),
+                class_meaning(worse)
+            ),
+        ),
+        None => (tone_of(class), title, class_meaning(class).to_string()),
+    }
+}
+
+fn dosing_words(a: &Assessment) -> &'static str {
+    match a.plant.dosing_after_failure {
+        crate::case::Dosing::Continues => "the feed going on after it",
+        crate::case::Dosing::Stops => "the feed stopped at it",
+    }
+}
+
+/// The temperatures and figures a reviewer looks for first, with their units.
+/// A temperature is flagged when it reaches the lowest barrier (MTT or TD24).
+fn key_figures(a: &Assessment) -> Vec<KeyFigure> {
+    let f = &a.figures;
+    let lowest_barrier = f.td24.map_or(f.mtt, |t| t.min(f.mtt));
+    let temperature = |label: &str, k: f64, flag: bool| KeyFigure {
+        label: label.to_string(),
+        value: format!("{:.1} °C", celsius(k)),
+        alert: flag && k >= lowest_barrier,
+    };
+    let plain = |label: &str, value: String| KeyFigure {
+        label: label.to_string(),
+        value,
+        alert: false,
+    };
+    vec![
+        temperature("Tp", a.plant.process_temperature, false),
+        temperature("MTSR", f.mtsr, true),
+        temperature("simulated MTSR", f.worst.max_temperature, true),
+        temperature("MTT", f.mtt, false),
+        match f.td24 {
+            Some(t) => temperature("TD24", t, false),
+            None => KeyFigure {
+                label: "TD24".to_string(),
+                value: "— (no data)".to_string(),
+                alert: true,
+            },
+        },
+        plain("ΔT_ad", format!("{:.1} K", f.adiabatic_rise)),
+        plain(
+            "max accumulation",
+            format!("{:.1} %", 100.0 * f.max_accumulation),
+        ),
+        plain(
+            "TMRad at MTSR",
+            f.tmr_ad_at_mtsr.map_or("— (no data)".to_string(), |s| {
+                format!("{:.2} h", s / HOUR)
+            }),
+        ),
+    ]
 }
 
 fn tone_of(class: u8) -> Tone {
