@@ -288,7 +288,7 @@ pub fn after_failure_section(a: &Assessment) -> Option<Section> {
             ],
             vec![
                 "maximum rate of temperature rise".to_string(),
-                format!("{:.3}", r.max_rate * 60.0),
+                rate_text(r.max_rate * 60.0),
                 "K/min".to_string(),
                 "largest dT/dt after the failure".to_string(),
             ],
@@ -338,6 +338,12 @@ pub fn after_failure_section(a: &Assessment) -> Option<Section> {
             rows,
             numeric: vec![1],
         }));
+        if r.max_temperature > a.plant.mtt {
+            blocks.push(Block::Paragraph(format!(
+                "This run passes the MTT ({:.1} °C): above it the temperatures are what the heat would do if nothing took it out; once the vessel would boil, vent or burst they have no physical meaning (SAFETY.md).",
+                celsius(a.plant.mtt)
+            )));
+        }
     }
     if !a.normal_off_gas.is_empty() {
         blocks.push(Block::Subheading("Off-gas, peak rates".to_string()));
@@ -375,4 +381,13 @@ pub fn after_failure_section(a: &Assessment) -> Option<Section> {
         new_page: false,
         blocks,
     })
+}
+
+/// A rate of temperature rise, K/min, with about three significant digits.
+fn rate_text(k_per_min: f64) -> String {
+    match k_per_min.abs() {
+        r if r >= 100.0 => format!("{k_per_min:.0}"),
+        r if r >= 1.0 => format!("{k_per_min:.2}"),
+        _ => format!("{k_per_min:.3}"),
+    }
 }
