@@ -5,6 +5,7 @@ pub mod cautions;
 pub mod csv;
 pub mod json;
 pub mod limit;
+pub mod plot;
 pub mod series;
 pub mod table;
 
