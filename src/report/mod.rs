@@ -6,6 +6,7 @@ pub mod csv;
 pub mod document;
 pub mod json;
 pub mod limit;
+pub mod plot;
 pub mod series;
 pub mod table;
 pub mod timeseries_csv;
