@@ -196,9 +196,9 @@ fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
 
 fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
     use crate::assess::limit::{LimitSettings, dosing_limit};
-    use crate::report::document::pending::all_plots;
     use crate::report::document::provenance::Provenance;
     use crate::report::document::{LimitPart, Parts, build, files::report_files};
+    use crate::report::plot::all_plots;
     use crate::report::series::sample;
     let out = args.out.display().to_string();
     // Fail before the computation when DIR is in the way (checked again when writing).

@@ -1,8 +1,8 @@
 //! The files of a stage-gate report, built in memory before any is written: report.html,
 //! report.md, timeseries.csv and the plots.
 
-use super::pending::Plot;
 use super::{Document, html, markdown};
+use crate::report::plot::Plot;
 use crate::report::series::Series;
 use crate::report::timeseries_csv::timeseries_csv;
 
@@ -20,7 +20,7 @@ pub fn report_files(doc: &Document, series: &Series, plots: &[Plot]) -> Vec<(Str
     files.extend(
         plots
             .iter()
-            .map(|p| (p.file_name.clone(), p.svg.clone().into_bytes())),
+            .map(|p| (p.file_name.to_string(), p.svg.clone().into_bytes())),
     );
     files
 }

@@ -2,7 +2,7 @@
 //! no scripts, no fonts or images from anywhere else.
 
 use super::{Block, Document, Section, Table, Tone};
-use crate::report::document::pending::Plot;
+use crate::report::plot::Plot;
 
 const STYLE: &str = r#"
 @page { size: A4; margin: 16mm 15mm 18mm 15mm; }

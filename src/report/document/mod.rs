@@ -8,13 +8,12 @@ pub mod inputs;
 pub mod limit;
 pub mod markdown;
 pub mod notes;
-pub mod pending;
 pub mod provenance;
 pub mod verdict;
 
 use crate::assess::Assessment;
 use crate::assess::limit::DosingLimit;
-use pending::Plot;
+use crate::report::plot::Plot;
 use provenance::Provenance;
 
 /// The whole report: a title and its sections in reading order.
