@@ -438,3 +438,38 @@ fn a_killed_run_leaves_no_report_or_a_complete_one() {
         }
     }
 }
+
+/// The dosing-limit section says what `exoscreen limit --format json` says.
+#[test]
+fn the_dosing_limit_section_equals_limit_json() {
+    const CASE: &str = "cases/bromination-protected.yaml";
+    let limit = run(&["limit", CASE, "--format", "json"]);
+    assert_eq!(limit.code, Some(0), "{}", limit.stderr);
+    let json: Value = serde_json::from_str(&limit.stdout).expect("JSON");
+    let dir = tempfile::tempdir().expect("a temporary directory");
+    let out = dir.path().join("report");
+    let output = exoscreen()
+        .args(["report", CASE, "--out"])
+        .arg(&out)
+        .output()
+        .expect("exoscreen runs");
+    assert_eq!(output.status.code(), Some(0));
+    let markdown = read(&out.join("report.md"));
+    let section = markdown
+        .split("## Dosing limit")
+        .nth(1)
+        .expect("the dosing-limit section");
+    let duration = json["min_feed_duration_h"].as_f64().expect("a limit");
+    let rate = json["max_feed_rate_kg_h"].as_f64().expect("a rate");
+    let binding = json["binding_criterion"]
+        .as_str()
+        .expect("a binding criterion");
+    assert!(section.contains(&format!("**shortest feed duration**: {duration:.2} h")));
+    assert!(section.contains(&format!("**fastest feed rate**: {rate:.1} kg/h")));
+    assert!(section.contains(&format!("**binding criterion**: {binding} (")));
+    let verdict = markdown.split("## Inputs").next().expect("the verdict");
+    assert!(
+        verdict.contains(&format!("Feed over no less than {duration:.2} h")),
+        "the verdict's advice carries the limit"
+    );
+}
