@@ -240,10 +240,10 @@ fn what_to_do(a: &Assessment, limit: Option<&DosingLimit>) -> Vec<String> {
         actions.push(limit_action(l));
     }
     if !a.warnings.is_empty() {
-        actions.push(format!(
-            "Resolve or accept, in writing, each of the {} warnings below.",
-            a.warnings.len()
-        ));
+        actions.push(match a.warnings.len() {
+            1 => "Resolve or accept, in writing, the warning below.".to_string(),
+            n => format!("Resolve or accept, in writing, each of the {n} warnings below."),
+        });
     }
     actions.push("Confirm the inputs and figures by calorimetry on the real reaction mass and have them reviewed by competent, licensed people; local codes and regulations prevail (see the cautions).".to_string());
     actions
