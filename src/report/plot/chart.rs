@@ -143,14 +143,34 @@ impl Chart {
     }
 
     fn draw(&self, root: &Area<'_>, x: (f64, f64), y: (f64, f64)) -> DrawResult {
-        let mut chart = ChartBuilder::on(root)
-            .caption(&self.title, (FONT, 18))
+        let has_legend = self.lines.iter().any(|l| !l.label.is_empty());
+        let header_height = if has_legend { 58 } else { 36 };
+        let (header, body) = root.split_vertically(header_height);
+        header.draw(&Text::new(
+            self.title.clone(),
+            (i32::try_from(super::WIDTH / 2).unwrap_or(360), 8),
+            (FONT, 18)
+                .into_font()
+                .color(&BLACK)
+                .pos(Pos::new(HPos::Center, VPos::Top)),
+        ))?;
+        if has_legend {
+            self.draw_legend(&header)?;
+        }
+        let mut chart = ChartBuilder::on(&body)
             .margin(12)
+            .margin_top(6)
             .x_label_area_size(44)
             .y_label_area_size(64)
             .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
         let log_y = self.log_y;
-        let y_format = move |v: &f64| axis_number(if log_y { 10f64.powf(*v) } else { *v });
+        let y_format = move |v: &f64| {
+            if log_y {
+                axis_number(two_significant(10f64.powf(*v)))
+            } else {
+                axis_number(*v)
+            }
+        };
         chart
             .configure_mesh()
             .x_desc(self.x_label.as_str())
@@ -163,25 +183,11 @@ impl Chart {
             .axis_desc_style((FONT, 14))
             .draw()?;
         for line in &self.lines {
-            let points = line.points.clone();
-            let style = ShapeStyle::from(line.pen.colour).stroke_width(line.pen.width);
-            let drawn = match line.pen.dash {
-                None => chart.draw_series(LineSeries::new(points, style))?,
-                Some((dash, gap)) => {
-                    chart.draw_series(DashedLineSeries::new(points, dash, gap, style))?
-                }
-            };
-            let pen = line.pen;
-            drawn.label(line.label.as_str()).legend(move |(px, py)| {
-                PathElement::new(
-                    vec![(px, py), (px + 24, py)],
-                    ShapeStyle::from(pen.colour).stroke_width(pen.width),
-                )
-            });
+            draw_path(&mut chart, line.points.clone(), line.pen)?;
         }
         let plot_height = f64::from(chart.plotting_area().dim_in_pixel().1).max(1.0);
         let plot_width = f64::from(chart.plotting_area().dim_in_pixel().0).max(1.0);
-        self.draw_horizontal(&mut chart, x, y, plot_height)?;
+        self.draw_horizontal(&mut chart, x, y, (plot_width, plot_height))?;
         self.draw_vertical(&mut chart, x, y, plot_width)?;
         for marker in &self.markers {
             chart.draw_series(std::iter::once(Circle::new(
@@ -190,27 +196,44 @@ impl Chart {
                 ShapeStyle::from(BLACK).stroke_width(2),
             )))?;
             let right_half = marker.at.0 > (x.0 + x.1) / 2.0;
-            let anchor = if right_half {
-                Pos::new(HPos::Right, VPos::Bottom)
+            let (anchor, dx) = if right_half {
+                (Pos::new(HPos::Right, VPos::Center), -0.015)
             } else {
-                Pos::new(HPos::Left, VPos::Bottom)
+                (Pos::new(HPos::Left, VPos::Center), 0.015)
             };
-            let dx = (x.1 - x.0) * if right_half { -0.012 } else { 0.012 };
-            let dy = (y.1 - y.0) * 0.03;
             chart.draw_series(std::iter::once(Text::new(
                 marker.label.clone(),
-                (marker.at.0 + dx, marker.at.1 + dy),
+                (marker.at.0 + dx * (x.1 - x.0), marker.at.1),
                 (FONT, 13).into_font().color(&BLACK).pos(anchor),
             )))?;
         }
-        if self.lines.iter().filter(|l| !l.label.is_empty()).count() > 0 {
-            chart
-                .configure_series_labels()
-                .position(SeriesLabelPosition::UpperLeft)
-                .background_style(WHITE.mix(0.85))
-                .border_style(RGBColor(120, 120, 120))
-                .label_font((FONT, 13))
-                .draw()?;
+        Ok(())
+    }
+
+    /// The legend as one row under the title, outside the plot so it hides no data.
+    fn draw_legend(&self, header: &Area<'_>) -> DrawResult {
+        let mut x = 80;
+        for line in self.lines.iter().filter(|l| !l.label.is_empty()) {
+            let y = 44;
+            let style = ShapeStyle::from(line.pen.colour).stroke_width(line.pen.width);
+            let segment = match line.pen.dash {
+                None => vec![vec![(x, y), (x + 30, y)]],
+                Some((dash, gap)) => dashes(x, y, 30, dash, gap),
+            };
+            for piece in segment {
+                header.draw(&PathElement::new(piece, style))?;
+            }
+            header.draw(&Text::new(
+                line.label.clone(),
+                (x + 36, y),
+                (FONT, 13)
+                    .into_font()
+                    .color(&BLACK)
+                    .pos(Pos::new(HPos::Left, VPos::Center)),
+            ))?;
+            // The naive text metrics: about 0.6 em a character.
+            let width = i32::try_from(line.label.chars().count()).unwrap_or(0) * 8;
+            x += 36 + width + 30;
         }
         Ok(())
     }
@@ -220,17 +243,25 @@ impl Chart {
         chart: &mut Cartesian<'_, '_>,
         x: (f64, f64),
         y: (f64, f64),
-        plot_height: f64,
+        (plot_width, plot_height): (f64, f64),
     ) -> DrawResult {
         let gap = (y.1 - y.0) * LABEL_GAP_PX / plot_height;
+        let px_x = (x.1 - x.0) / plot_width;
         let values: Vec<f64> = self.horizontal.iter().map(|m| m.value).collect();
         let label_at = spread(&values, gap, y.1 - gap * 0.2);
         for (mark, at) in self.horizontal.iter().zip(label_at) {
             let style = ShapeStyle::from(mark.pen.colour).stroke_width(mark.pen.width);
             draw_path(chart, vec![(x.0, mark.value), (x.1, mark.value)], mark.pen)?;
+            // A light box behind the label keeps it readable where a curve passes.
+            let right = x.1 - px_x * 4.0;
+            let width = px_x * (7.0 * mark.label.chars().count() as f64 + 6.0);
+            chart.draw_series(std::iter::once(Rectangle::new(
+                [(right - width, at), (right + px_x * 2.0, at + gap * 0.95)],
+                WHITE.mix(0.8).filled(),
+            )))?;
             chart.draw_series(std::iter::once(Text::new(
                 mark.label.clone(),
-                (x.1 - (x.1 - x.0) * 0.006, at),
+                (right, at),
                 (FONT, 12)
                     .into_font()
                     .color(&style.color)
@@ -299,6 +330,19 @@ fn draw_path(chart: &mut Cartesian<'_, '_>, points: Vec<(f64, f64)>, pen: Pen) -
     Ok(())
 }
 
+/// A dashed horizontal segment of `length` px from (x, y), as separate pieces.
+fn dashes(x: i32, y: i32, length: i32, dash: u32, gap: u32) -> Vec<Vec<(i32, i32)>> {
+    let (dash, gap) = (
+        i32::try_from(dash).unwrap_or(1).max(1),
+        i32::try_from(gap).unwrap_or(1),
+    );
+    (0..)
+        .map(|k| x + k * (dash + gap))
+        .take_while(|start| *start < x + length)
+        .map(|start| vec![(start, y), ((start + dash).min(x + length), y)])
+        .collect()
+}
+
 /// The range of the values, widened by `pad` of its span on each side (a flat range by 1 on
 /// each side); None when there are none, or the range is too narrow or wide to draw.
 pub(crate) fn padded(values: impl Iterator<Item = f64>, pad: f64) -> Option<(f64, f64)> {
@@ -346,6 +390,15 @@ pub(crate) fn spread(values: &[f64], gap: f64, top: f64) -> Vec<f64> {
         }
     }
     at
+}
+
+/// `v` rounded to two significant digits (log-axis labels: 3162.3 -> 3200).
+pub(crate) fn two_significant(v: f64) -> f64 {
+    if v == 0.0 || !v.is_finite() {
+        return v;
+    }
+    let scale = 10f64.powf(v.abs().log10().floor() - 1.0);
+    (v / scale).round() * scale
 }
 
 /// An axis tick label: short, no trailing zeros, never "NaN".

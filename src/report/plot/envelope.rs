@@ -54,7 +54,8 @@ pub fn time_to_max_rate_plot(a: &Assessment) -> Plot {
         title: RATE_TITLE.to_string(),
         caption: "For a cooling failure at each time of the process, the time from the failure \
                   to the fastest temperature rise (full model, decomposition on): the time left \
-                  to act. Zero means the temperature rises fastest at once."
+                  to act. Zero means the temperature rises fastest at once; a value equal to the failure \
+                  horizon means it was still rising faster when the run ended."
             .to_string(),
         svg: chart.render(),
     }

@@ -17,7 +17,7 @@ const AXIS_X: i32 = 480;
 const AXIS_TOP: i32 = 64;
 const AXIS_BOTTOM: i32 = HEIGHT as i32 - 30;
 /// Characters per line of the class meaning.
-const WRAP: usize = 50;
+const WRAP: usize = 56;
 
 struct Rung {
     name: &'static str,
@@ -75,7 +75,7 @@ fn draw_ladder(class: Option<u8>, rungs: &[Rung]) -> String {
                 .color(&BLACK)
                 .pos(Pos::new(HPos::Left, VPos::Top)),
         ))?;
-        draw_class(root, class)?;
+        draw_class(root, class, &order_line(rungs))?;
         draw_axis(root, range)?;
         draw_rungs(root, range, rungs, &values)
     })
@@ -86,7 +86,22 @@ fn y_of(range: (f64, f64), celsius: f64) -> i32 {
     (f64::from(AXIS_BOTTOM) - share * f64::from(AXIS_BOTTOM - AXIS_TOP)).round() as i32
 }
 
-fn draw_class(root: &super::chart::Area<'_>, class: Option<u8>) -> DrawResult {
+/// The rungs in rising order, e.g. "Tp < MTSR < TD24 < MTT" ("=" where two are equal).
+fn order_line(rungs: &[Rung]) -> String {
+    let mut sorted: Vec<&Rung> = rungs.iter().collect();
+    sorted.sort_by(|a, b| a.kelvin.total_cmp(&b.kelvin));
+    let mut text = String::new();
+    for (k, rung) in sorted.iter().enumerate() {
+        if k > 0 {
+            let equal = (rung.kelvin - sorted[k - 1].kelvin).abs() < 0.05;
+            text.push_str(if equal { " = " } else { " < " });
+        }
+        text.push_str(rung.name);
+    }
+    text
+}
+
+fn draw_class(root: &super::chart::Area<'_>, class: Option<u8>, order: &str) -> DrawResult {
     let (headline, meaning) = match class {
         Some(c) => (format!("Class {c}"), first_sentence(class_meaning(c))),
         None => (
@@ -103,10 +118,18 @@ fn draw_class(root: &super::chart::Area<'_>, class: Option<u8>) -> DrawResult {
             .color(&BLACK)
             .pos(Pos::new(HPos::Left, VPos::Top)),
     ))?;
+    root.draw(&Text::new(
+        order.to_string(),
+        (20, 142),
+        (FONT, 17)
+            .into_font()
+            .color(&BLACK)
+            .pos(Pos::new(HPos::Left, VPos::Top)),
+    ))?;
     for (k, line) in wrap(&meaning, WRAP).iter().enumerate() {
         root.draw(&Text::new(
             line.clone(),
-            (20, 150 + 19 * k as i32),
+            (20, 180 + 19 * k as i32),
             (FONT, 14)
                 .into_font()
                 .color(&BLACK)
@@ -135,7 +158,7 @@ fn draw_axis(root: &super::chart::Area<'_>, range: (f64, f64)) -> DrawResult {
         root.draw(&PathElement::new(vec![(AXIS_X - 6, y), (AXIS_X, y)], grey))?;
         root.draw(&Text::new(
             axis_number(tick),
-            (AXIS_X - 10, y),
+            (AXIS_X - 12, y),
             (FONT, 12)
                 .into_font()
                 .color(&RGBColor(60, 60, 60))
@@ -159,11 +182,11 @@ fn draw_rungs(
         let label_y = -label_y as i32;
         let style = ShapeStyle::from(rung.pen.colour).stroke_width(3);
         root.draw(&PathElement::new(
-            vec![(AXIS_X - 14, y), (AXIS_X + 14, y)],
+            vec![(AXIS_X - 4, y), (AXIS_X + 16, y)],
             style,
         ))?;
         root.draw(&PathElement::new(
-            vec![(AXIS_X + 14, y), (AXIS_X + 30, label_y)],
+            vec![(AXIS_X + 16, y), (AXIS_X + 30, label_y)],
             ShapeStyle::from(rung.pen.colour).stroke_width(1),
         ))?;
         root.draw(&Text::new(
