@@ -252,12 +252,30 @@ fn what_to_do(a: &Assessment, limit: Option<&DosingLimit>) -> Vec<String> {
 fn limit_action(l: &DosingLimit) -> String {
     match (l.batch, l.feasible, l.min_feed_duration) {
         (true, true, _) => "A batch: the case as it is meets every dosing criterion.".to_string(),
-        (true, false, _) => "A batch: the case as it is does not meet every dosing criterion; see the dosing limit.".to_string(),
+        (true, false, _) => {
+            "A batch: the case as it is does not meet every dosing criterion; see the dosing limit."
+                .to_string()
+        }
         (false, true, Some(d)) => format!(
             "Feed over no less than {:.2} h ({:.1} kg/h at most): the shortest feed that meets every dosing criterion.",
             d / HOUR,
             l.max_feed_rate.unwrap_or(0.0) * HOUR
         ),
-        _ => "No feed duration tried meets every dosing criterion: see the dosing limit's suggestions.".to_string(),
+        _ => {
+            let stopping = l
+                .with_feed_stopping
+                .filter(|alt| alt.feasible)
+                .and_then(|alt| alt.min_feed_duration.map(|d| (d, alt.binding)))
+                .map_or(String::new(), |(d, binding)| {
+                    format!(
+                        " With the feed stopping on a cooling failure, the shortest feed is {:.2} h{}.",
+                        d / HOUR,
+                        binding.map_or(String::new(), |b| format!(" ({} binding)", b.name()))
+                    )
+                });
+            format!(
+                "No feed duration tried meets every dosing criterion as the case stands: see the dosing limit's suggestions.{stopping}"
+            )
+        }
     }
 }
