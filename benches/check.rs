@@ -2,13 +2,22 @@
 //! worst-failure search, figures: the contract's part of `check`), then of the whole `check` computation (load, validate, normal
 //! run, worst-failure search, figures, failure envelope) on the demo cases, median of repeated
 //! runs; then the failure envelope alone (200 failure times, decomposition on) on each case;
-//! then the dosing-limit search (`exoscreen limit`) on the semibatch demo cases.
+//! then the dosing-limit search (`exoscreen limit`) on the semibatch demo cases; then
+//! `exoscreen dsc`'s analysis of four 10 000-point scans (`cargo bench --bench check -- dsc`
+//! runs it alone); then the scale ladder (`exoscreen scale`, five volumes) on the film-model
+//! demo case.
 
 use exoscreen::assess::assess;
 use exoscreen::assess::envelope::{ENVELOPE_POINTS, failure_envelope};
 use exoscreen::assess::figures::compute;
 use exoscreen::assess::limit::{LimitSettings, dosing_limit};
+use exoscreen::assess::scale::{parse_volumes, scale_ladder};
 use exoscreen::case::load::load_case_text;
+use exoscreen::lab::Table;
+use exoscreen::lab::dsc::ScanOptions;
+use exoscreen::lab::study::study;
+use exoscreen::lab::synthetic::{CurveSpec, scan_csv};
+use exoscreen::model::film::SpeedRule;
 use exoscreen::model::plant::Plant;
 use exoscreen::model::scenario::run_normal;
 use std::time::{Duration, Instant};
@@ -88,6 +97,15 @@ fn main() {
         .ok()
         .and_then(|v| v.parse().ok())
         .unwrap_or(20);
+    let (median, min) = time_dsc(repeats);
+    println!(
+        "dsc kissinger (4 scans x 10 000 points: CSV parsed from memory, scans, Kissinger, Ozawa, block, TD24), {repeats} runs\n  median {:>8.2} ms   min {:>8.2} ms",
+        median.as_secs_f64() * 1e3,
+        min.as_secs_f64() * 1e3
+    );
+    if std::env::args().any(|a| a == "dsc") {
+        return;
+    }
     println!(
         "figures (load + validate + normal run + worst-failure search + figures), {repeats} runs each"
     );
@@ -132,6 +150,37 @@ fn main() {
             min.as_secs_f64() * 1e3
         );
     }
+    let scale_repeats = repeats.clamp(1, 10);
+    println!(
+        "scale ladder (5 volumes): load + validate + 5 scaled screenings, {scale_repeats} runs"
+    );
+    let (median, min) = time_scale_ladder(SCALE_CASE, scale_repeats);
+    println!(
+        "  {SCALE_CASE:<45} median {:>8.2} ms   min {:>8.2} ms",
+        median.as_secs_f64() * 1e3,
+        min.as_secs_f64() * 1e3
+    );
+}
+
+/// The demo case of the film model, for the scale ladder.
+const SCALE_CASE: &str = "cases/bromination-film.yaml";
+
+/// `exoscreen scale` with the five volumes of the README: (median, min).
+fn time_scale_ladder(path: &str, repeats: usize) -> (Duration, Duration) {
+    let text = std::fs::read_to_string(path).expect("demo case readable");
+    let volumes = parse_volumes("1 L, 100 L, 1 m^3, 4 m^3, 16 m^3").expect("volumes");
+    let mut samples = Vec::with_capacity(repeats);
+    for _ in 0..repeats {
+        let start = Instant::now();
+        let case = load_case_text(&text, path).expect("demo case valid");
+        let plant = Plant::from_case(&case).expect("demo geometry");
+        let ladder = scale_ladder(&plant, &volumes, SpeedRule::PowerPerVolume, None)
+            .expect("ladder computes");
+        std::hint::black_box(&ladder);
+        samples.push(start.elapsed());
+    }
+    let min = *samples.iter().min().unwrap_or(&Duration::ZERO);
+    (median(samples), min)
 }
 
 /// The semibatch demo cases, for the dosing-limit search.
@@ -159,4 +208,44 @@ fn time_limit(path: &str, repeats: usize) -> (Duration, Duration, usize) {
     }
     let min = *samples.iter().min().unwrap_or(&Duration::ZERO);
     (median(samples), min, runs)
+}
+
+/// Four invented 10 000-point scans (2, 5, 10, 20 K/min, 1 % noise) made once as CSV text;
+/// each run parses the four texts and does the whole `dsc` analysis: (median, min).
+fn time_dsc(repeats: usize) -> (Duration, Duration) {
+    let texts: Vec<String> = [2.0, 5.0, 10.0, 20.0]
+        .iter()
+        .enumerate()
+        .map(|(i, rate)| {
+            scan_csv(&CurveSpec {
+                heating_rate: rate / 60.0,
+                activation_energy: 120e3,
+                pre_exponential: 1e12,
+                order: 1.0,
+                energy: 800e3,
+                start: 313.15,
+                end: 573.15,
+                points: 10_000,
+                baseline: 20.0,
+                baseline_slope: 0.05,
+                noise: 0.01,
+                seed: 1 + i as u64,
+                sample_mass: Some(3.2e-6),
+            })
+        })
+        .collect();
+    let options = vec![ScanOptions::default(); texts.len()];
+    let mut samples = Vec::with_capacity(repeats);
+    for _ in 0..repeats {
+        let start = Instant::now();
+        let tables: Vec<Table> = texts
+            .iter()
+            .map(|t| Table::parse(t, "bench.csv").expect("generated scan reads"))
+            .collect();
+        let result = study(&tables, &options, None).expect("generated scans analyse");
+        std::hint::black_box(&result.kissinger);
+        samples.push(start.elapsed());
+    }
+    let min = *samples.iter().min().unwrap_or(&Duration::ZERO);
+    (median(samples), min)
 }

@@ -7,6 +7,8 @@
 pub mod assess;
 pub mod case;
 pub mod cli;
+pub mod estimate;
+pub mod lab;
 pub mod model;
 pub mod numeric;
 pub mod report;

@@ -88,6 +88,22 @@ const CORPUS: &[(&str, Expect)] = &[
         )]),
     ),
     (
+        "heat-transfer-both.yaml",
+        Errors(&[(
+            "vessel.heat_transfer",
+            37,
+            "both vessel.heat_transfer_coefficient and vessel.heat_transfer are given",
+        )]),
+    ),
+    (
+        "heat-transfer-neither.yaml",
+        Errors(&[(
+            "vessel.heat_transfer_coefficient",
+            31,
+            "the required key \"heat_transfer_coefficient\" is missing in vessel",
+        )]),
+    ),
+    (
         "inf-mass.yaml",
         Errors(&[("feed.mass", 15, "only finite numbers")]),
     ),
@@ -227,6 +243,22 @@ const CORPUS: &[(&str, Expect)] = &[
             "reactions[0].enthalpy",
             25,
             "the unit \"kJ/kg\" is an energy per mass (m^2·s^-2), but this key takes an energy per amount of substance",
+        )]),
+    ),
+    (
+        "wall-conductivity-dimension.yaml",
+        Errors(&[(
+            "vessel.heat_transfer.wall[1].conductivity",
+            38,
+            "but this key takes a thermal conductivity",
+        )]),
+    ),
+    (
+        "wilson-one-speed.yaml",
+        Errors(&[(
+            "vessel.heat_transfer.lab.measurements",
+            46,
+            "two or more different speeds (found 1)",
         )]),
     ),
     (

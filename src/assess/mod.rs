@@ -7,6 +7,7 @@ pub mod figures;
 pub mod limit;
 pub mod offgas;
 pub mod runaway;
+pub mod scale;
 pub mod search;
 pub mod warnings;
 

@@ -96,8 +96,38 @@ pub struct Vessel {
     pub bottom: Bottom,
     pub nominal_volume: Volume,
     pub jacket_height: Length,
+    /// Given (`heat_transfer_coefficient`), or from `heat_transfer` in this vessel.
     pub heat_transfer_coefficient: HeatTransfer,
     pub heat_capacity: HeatCapacity,
+    /// `vessel.heat_transfer`: U from resistances in series (SI, in the model's types).
+    pub film: Option<FilmData>,
+    /// `vessel.ambient_loss`: heat lost to the surroundings in normal operation.
+    pub ambient: Option<AmbientLoss>,
+}
+
+/// The resistances of `vessel.heat_transfer`, checked, in SI.
+#[derive(Debug, Clone)]
+pub struct FilmData {
+    pub model: crate::model::film::FilmModel,
+    /// The impeller type named in the case, if any.
+    pub impeller_type: Option<crate::model::film::ImpellerType>,
+    /// The Wilson plot the process film comes from, when it comes from lab data.
+    pub lab: Option<LabFit>,
+}
+
+/// A Wilson plot of lab data and the lab vessel it was measured in (m).
+#[derive(Debug, Clone)]
+pub struct LabFit {
+    pub fit: crate::model::wilson::WilsonFit,
+    pub vessel_diameter: f64,
+    pub impeller_diameter: f64,
+}
+
+/// Heat lost to the surroundings: UA_amb (W/K) and the ambient temperature (K).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AmbientLoss {
+    pub conductance: f64,
+    pub temperature: f64,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

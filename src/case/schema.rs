@@ -174,6 +174,17 @@ pub trait Keys {
     const KEYS: &'static [&'static str];
 }
 
+/// The key of a field: its name, without the `r#` of a raw identifier (`r#type` is `type`).
+const fn key_name(field: &'static str) -> &'static str {
+    match field.as_bytes() {
+        [b'r', b'#', rest @ ..] => match std::str::from_utf8(rest) {
+            Ok(name) => name,
+            Err(_) => field,
+        },
+        _ => field,
+    }
+}
+
 /// A raw section: the struct as written, with `unknown` for the keys it does not have, and
 /// its `Keys` taken from the same field list, so that the two cannot drift apart.
 macro_rules! section {
@@ -193,7 +204,7 @@ macro_rules! section {
         }
 
         impl Keys for $name {
-            const KEYS: &'static [&'static str] = &[$(stringify!($field)),*];
+            const KEYS: &'static [&'static str] = &[$(key_name(stringify!($field))),*];
         }
     };
 }
@@ -265,6 +276,66 @@ section! {
         pub jacket_height: Option<Scalar>,
         pub heat_transfer_coefficient: Option<Scalar>,
         pub heat_capacity: Option<Scalar>,
+        pub heat_transfer: Option<RawHeatTransfer>,
+        pub ambient_loss: Option<Scalar>,
+        pub ambient_temperature: Option<Scalar>,
+    }
+}
+
+section! {
+    /// The overall coefficient from resistances in series (instead of
+    /// `heat_transfer_coefficient`): the wall's layers, fouling, the coolant film, and the
+    /// process film from the impeller and the contents, or from lab data (Wilson plot).
+    pub struct RawHeatTransfer {
+        pub wall: Option<Vec<RawWallLayer>>,
+        pub fouling: Option<Scalar>,
+        pub coolant_film: Option<Scalar>,
+        pub impeller: Option<RawImpeller>,
+        pub contents: Option<RawContents>,
+        pub lab: Option<RawLab>,
+    }
+}
+
+section! {
+    pub struct RawWallLayer {
+        pub material: Option<Scalar>,
+        pub thickness: Option<Scalar>,
+        pub conductivity: Option<Scalar>,
+    }
+}
+
+section! {
+    pub struct RawImpeller {
+        pub r#type: Option<Scalar>,
+        pub constant: Option<Scalar>,
+        pub diameter: Option<Scalar>,
+        pub speed: Option<Scalar>,
+    }
+}
+
+section! {
+    /// The contents' transport properties for the process film (density and specific heat:
+    /// the charge's).
+    pub struct RawContents {
+        pub viscosity: Option<Scalar>,
+        pub wall_viscosity: Option<Scalar>,
+        pub thermal_conductivity: Option<Scalar>,
+    }
+}
+
+section! {
+    /// Lab data for a Wilson plot: the lab vessel and impeller, and U at several speeds.
+    pub struct RawLab {
+        pub vessel_diameter: Option<Scalar>,
+        pub impeller_diameter: Option<Scalar>,
+        pub measurements: Option<Vec<RawMeasurement>>,
+    }
+}
+
+section! {
+    pub struct RawMeasurement {
+        pub speed: Option<Scalar>,
+        pub coefficient: Option<Scalar>,
     }
 }
 
@@ -365,7 +436,13 @@ mod tests {
         RawDecomposition,
         RawLimits,
         RawSolvent,
-        RawCondenser
+        RawCondenser,
+        RawHeatTransfer,
+        RawWallLayer,
+        RawImpeller,
+        RawContents,
+        RawLab,
+        RawMeasurement
     );
 
     #[test]
@@ -381,6 +458,13 @@ mod tests {
         listed_keys_are_fields::<RawVessel>();
         listed_keys_are_fields::<RawSolvent>();
         listed_keys_are_fields::<RawCondenser>();
+        listed_keys_are_fields::<RawHeatTransfer>();
+        listed_keys_are_fields::<RawWallLayer>();
+        listed_keys_are_fields::<RawImpeller>();
+        listed_keys_are_fields::<RawContents>();
+        listed_keys_are_fields::<RawLab>();
+        listed_keys_are_fields::<RawMeasurement>();
+        assert!(RawImpeller::KEYS.contains(&"type"));
     }
 
     #[test]

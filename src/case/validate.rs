@@ -20,6 +20,8 @@ use crate::model::vessel::VesselGeometry;
 use crate::warning::Warning;
 use std::collections::BTreeMap;
 use uom::si::f64::*;
+
+mod film;
 use uom::si::{
     amount_of_substance::mole, available_energy::joule_per_kilogram,
     heat_capacity::joule_per_kelvin, heat_transfer::watt_per_square_meter_kelvin, length::meter,
@@ -593,7 +595,7 @@ impl Checker<'_> {
         let charge = self.charge(raw.charge.as_ref());
         let feed = raw.feed.as_ref().map(|f| self.feed(f));
         let reactions = self.reactions(raw.reactions.as_deref(), &species);
-        let vessel = self.vessel(raw.vessel.as_ref());
+        let vessel = self.vessel(raw.vessel.as_ref(), charge.as_ref());
         let (coolant_temperature, jacket_control) = self.coolant(raw.coolant.as_ref());
         let process = raw.process.as_ref();
         let process_temperature = self.quantity(
@@ -1036,7 +1038,7 @@ impl Checker<'_> {
         }
     }
 
-    fn vessel(&mut self, raw: Option<&RawVessel>) -> Option<Vessel> {
+    fn vessel(&mut self, raw: Option<&RawVessel>, charge: Option<&Charge>) -> Option<Vessel> {
         // A missing section is one error, not one per key.
         let raw = Some(self.required(
             "vessel",
@@ -1064,11 +1066,8 @@ impl Checker<'_> {
             raw.and_then(|r| r.jacket_height.as_ref()),
             LENGTH,
         );
-        let u = self.quantity(
-            "vessel.heat_transfer_coefficient",
-            raw.and_then(|r| r.heat_transfer_coefficient.as_ref()),
-            HEAT_TRANSFER,
-        );
+        let (u, film) = self.heat_transfer_choice(raw, diameter, charge);
+        let ambient = self.ambient(raw);
         let c = self.quantity_or(
             "vessel.heat_capacity",
             raw.and_then(|r| r.heat_capacity.as_ref()),
@@ -1082,6 +1081,8 @@ impl Checker<'_> {
             jacket_height: Length::new::<meter>(jacket?),
             heat_transfer_coefficient: HeatTransfer::new::<watt_per_square_meter_kelvin>(u?),
             heat_capacity: HeatCapacity::new::<joule_per_kelvin>(c?),
+            film: film?,
+            ambient: ambient?,
         })
     }
 
@@ -1338,7 +1339,7 @@ fn bottom_of(word: &str) -> Bottom {
 }
 
 /// Names of the dimensions a case meets, for messages about a unit that does not fit.
-const NAMED_DIMENSIONS: [(Dimension, &str); 24] = [
+const NAMED_DIMENSIONS: [(Dimension, &str); 28] = [
     (Dimension::NONE, "a plain number"),
     (Dimension::new(0., 1., 0., 0., 0.), "a mass"),
     (Dimension::new(1., 0., 0., 0., 0.), "a length"),
@@ -1375,6 +1376,19 @@ const NAMED_DIMENSIONS: [(Dimension, &str); 24] = [
     (Dimension::new(-3., 0., 0., 0., 1.), "a concentration"),
     (Dimension::new(0., 1., -1., 0., 0.), "a mass flow"),
     (Dimension::new(1., 1., -2., 0., 0.), "a force"),
+    (
+        Dimension::new(1., 1., -3., -1., 0.),
+        "a thermal conductivity",
+    ),
+    (Dimension::new(-1., 1., -1., 0., 0.), "a viscosity"),
+    (
+        Dimension::new(0., -1., 3., 1., 0.),
+        "a thermal resistance per area",
+    ),
+    (
+        Dimension::new(2., 1., -3., -1., 0.),
+        "a thermal conductance",
+    ),
 ];
 
 /// "an energy per mass (m^2·s^-2)", or the base units alone for a dimension without a name.

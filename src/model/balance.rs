@@ -90,6 +90,8 @@ pub struct Snapshot {
     pub reaction_power: f64,
     pub decomposition_power: f64,
     pub cooling_power: f64,
+    /// Heat lost to the surroundings in normal operation, W (zero without `ambient`).
+    pub ambient_power: f64,
     /// The jacket temperature, K.
     pub coolant_temperature: f64,
     pub feed_sensible_power: f64,
@@ -264,6 +266,7 @@ impl Plant {
             reaction_power,
             decomposition_power,
             cooling_power: 0.0,
+            ambient_power: 0.0,
             coolant_temperature: f64::NAN,
             feed_sensible_power: feed_rate * feed_cp * (feed_t - temperature),
             evaporation_power: 0.0,
@@ -278,6 +281,9 @@ impl Plant {
         };
         if phase.cooling_on {
             s.cooling_power = self.u * cooled_area * (temperature - s.coolant_temperature);
+            if let Some(ambient) = &self.ambient {
+                s.ambient_power = ambient.conductance * (temperature - ambient.temperature);
+            }
         }
         if let (Some(barrier), true) = (&self.boiling, phase.boiling) {
             s.evaporation_power = s.net_heat_without_evaporation();
@@ -363,8 +369,14 @@ impl Plant {
 impl Snapshot {
     /// Heat into the contents before any evaporation, W.
     pub fn net_heat_without_evaporation(&self) -> f64 {
-        self.reaction_power + self.decomposition_power - self.cooling_power
-            + self.feed_sensible_power
+        let net = self.reaction_power + self.decomposition_power - self.cooling_power
+            + self.feed_sensible_power;
+        // Subtracted only where there is a loss, so that without one nothing changes.
+        if self.ambient_power != 0.0 {
+            net - self.ambient_power
+        } else {
+            net
+        }
     }
 
     /// Heat that changes the contents' temperature, W: none while boiling.

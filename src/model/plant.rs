@@ -95,6 +95,13 @@ pub enum Jacket {
     },
 }
 
+/// Heat lost to the surroundings, UA_amb (T - T_amb): conductance W/K, temperature K.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Ambient {
+    pub conductance: f64,
+    pub temperature: f64,
+}
+
 /// The boiling barrier: the solvent boils at `boiling_point` (K) once cooling is lost.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoilingBarrier {
@@ -114,6 +121,10 @@ pub struct Plant {
     pub jacket_height: f64,
     /// Overall heat-transfer coefficient, W/(m^2 K).
     pub u: f64,
+    /// The resistances U comes from, where the case gives them (`vessel.heat_transfer`).
+    pub film: Option<super::film::FilmModel>,
+    /// Heat lost to the surroundings in normal operation (none after a cooling failure).
+    pub ambient: Option<Ambient>,
     /// Wall and inserts, J/K.
     pub vessel_heat_capacity: f64,
     pub charge: Stream,
@@ -194,6 +205,11 @@ impl Plant {
             jacket_height: v.jacket_height.get::<meter>(),
             u: v.heat_transfer_coefficient
                 .get::<watt_per_square_meter_kelvin>(),
+            film: v.film.as_ref().map(|f| f.model.clone()),
+            ambient: v.ambient.map(|a| Ambient {
+                conductance: a.conductance,
+                temperature: a.temperature,
+            }),
             vessel_heat_capacity: v.heat_capacity.get::<joule_per_kelvin>(),
             charge,
             feed,

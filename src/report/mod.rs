@@ -1,12 +1,17 @@
 //! Reports: one exporter per format behind one trait.
 
+pub mod arc;
 pub mod atomic;
+pub mod calorimetry;
 pub mod cautions;
 pub mod csv;
 pub mod document;
+pub mod dsc;
+pub mod enthalpy;
 pub mod json;
 pub mod limit;
 pub mod plot;
+pub mod scale;
 pub mod series;
 pub mod table;
 pub mod timeseries_csv;

@@ -63,6 +63,33 @@ pub(crate) fn case_rows(a: &Assessment) -> Vec<[String; 2]> {
         "vessel".to_string(),
         format!("D {:.3} m, {} bottom, nominal {:.3} m3 (shell top {:.3} m), jacket to {:.3} m, U {:.0} W/(m2 K)", g.diameter(), g.bottom().name(), a.case.vessel.nominal_volume.get::<uom::si::volume::cubic_meter>(), g.height(), p.jacket_height, p.u),
     ]);
+    if let Some(film) = &a.case.vessel.film {
+        let r = film.model.resistances(g.diameter());
+        t.add_row(vec![
+            "heat transfer".to_string(),
+            format!(
+                "U from resistances: 1/U = {}",
+                r.breakdown()
+                    .iter()
+                    .map(|(name, value, share)| format!(
+                        "{name} {value:.2e} ({:.0} %)",
+                        100.0 * share
+                    ))
+                    .collect::<Vec<_>>()
+                    .join(" + ")
+            ),
+        ]);
+    }
+    if let Some(ambient) = &p.ambient {
+        t.add_row(vec![
+            "ambient loss".to_string(),
+            format!(
+                "{:.2} W/K to {:.1} degC, in normal operation only (adiabatic after a cooling failure)",
+                ambient.conductance,
+                ambient.temperature - 273.15
+            ),
+        ]);
+    }
     t.add_row(vec![
         "fill".to_string(),
         format!(
