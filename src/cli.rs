@@ -3,7 +3,7 @@
 use crate::assess::{AssessError, assess_within};
 use crate::case::{CaseError, load_case_file};
 use crate::estimate::EstimateError;
-use crate::report::atomic::write_atomically;
+use crate::report::atomic::{DirectoryError, write_atomically, write_directory_atomically};
 use crate::report::csv::envelope_csv;
 use crate::report::json::JsonExporter;
 use crate::report::table::TableExporter;
@@ -35,6 +35,10 @@ pub enum Command {
     /// cooling, temperature and off-gas criteria at once, and the coolant the case needs.
     #[command(after_help = LIMIT_EXIT_CODES)]
     Limit(LimitArgs),
+    /// Write the stage-gate report of one case into a new directory: report.html (one
+    /// self-contained file that prints on A4), report.md, timeseries.csv and the plots as SVG.
+    #[command(after_help = REPORT_EXIT_CODES)]
+    Report(ReportArgs),
     /// Estimate the enthalpy of a reaction before any experiment, from standard enthalpies of
     /// formation (bundled table or your own) or from bond dissociation enthalpies; always an
     /// estimate to be confirmed by reaction calorimetry.
@@ -271,6 +275,32 @@ fn parse_baseline(text: &str) -> Result<(f64, f64), String> {
     }
 }
 
+const REPORT_EXIT_CODES: &str = "Exit status:
+  0  the report was written (whatever the verdict)
+  1  the computation or the writing failed (nothing is left half-written)
+  2  bad input or usage, or DIR exists without --force (nothing is written)";
+
+#[derive(Debug, clap::Args)]
+pub struct ReportArgs {
+    /// The case file (YAML, format 1).
+    pub case: PathBuf,
+    /// The directory to create; it appears complete or not at all.
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// Replace DIR if it exists and holds an earlier report (and nothing else).
+    #[arg(long)]
+    pub force: bool,
+    /// Wall-clock budget of the whole computation (figures, then the dosing-limit search),
+    /// seconds; figures past it end the run with exit status 1 and nothing written, a
+    /// dosing-limit search past it is reported as not completed.
+    #[arg(long, value_name = "SECONDS", default_value_t = crate::assess::limit::LIMIT_TIME_BUDGET.as_secs_f64(), value_parser = positive_seconds)]
+    pub time_budget: f64,
+    /// Leave out the dosing-limit search (about a second on the demo cases, longer on slow
+    /// ones); the report then says it was not computed.
+    #[arg(long)]
+    pub no_limit: bool,
+}
+
 const LIMIT_EXIT_CODES: &str = "Exit status:
   0  the search ran (whether or not a feasible feed duration exists)
   1  the computation itself failed (the message says which scenario and why)
@@ -336,6 +366,12 @@ pub enum AppError {
     Output(#[from] std::io::Error),
     #[error("cannot write the envelope to {0}: {1}")]
     EnvelopeFile(String, std::io::Error),
+    #[error("cannot read {0}: {1}")]
+    CaseBytes(String, std::io::Error),
+    #[error("cannot write the report: {0}")]
+    ReportDirectory(#[from] DirectoryError),
+    #[error("computation failed: the report's time series: {0}")]
+    Series(#[from] crate::report::series::SeriesError),
     #[error("{0}")]
     Estimate(#[from] EstimateError),
     /// Lab data (`crate::lab`): exit 2 for bad input, 1 for an analysis that failed.
@@ -348,10 +384,16 @@ pub enum AppError {
 impl AppError {
     pub fn exit_code(&self) -> u8 {
         match self {
-            AppError::Case(_) => 2,
+            AppError::Case(_) | AppError::CaseBytes(..) => 2,
+            AppError::ReportDirectory(DirectoryError::Exists(_))
+            | AppError::ReportDirectory(DirectoryError::NotReplaceable(..)) => 2,
+            AppError::Assess(_)
+            | AppError::Output(_)
+            | AppError::EnvelopeFile(..)
+            | AppError::Series(_)
+            | AppError::ReportDirectory(DirectoryError::Io(..)) => 1,
             AppError::Estimate(e) if e.is_bad_input() => 2,
             AppError::Estimate(_) => 1,
-            AppError::Assess(_) | AppError::Output(_) | AppError::EnvelopeFile(..) => 1,
             AppError::Lab(e) => e.exit_code(),
             AppError::Scale(e) => e.exit_code(),
         }
@@ -369,6 +411,7 @@ pub fn run(cli: Cli) -> Result<Outcome, AppError> {
     match cli.command {
         Command::Check(args) => check(&args),
         Command::Limit(args) => limit(&args),
+        Command::Report(args) => report(&args),
         Command::Enthalpy(args) => enthalpy(&args),
         Command::Arc(args) => arc(&args),
         Command::Calorimetry(args) => calorimetry(&args),
@@ -517,6 +560,73 @@ fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
     std::io::stdout().lock().write_all(text.as_bytes())?;
     Ok(Outcome::Computed)
 }
+
+fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
+    use crate::assess::limit::{LimitSettings, dosing_limit};
+    use crate::report::document::provenance::Provenance;
+    use crate::report::document::{LimitPart, Parts, build, files::report_files};
+    use crate::report::plot::all_plots;
+    use crate::report::series::sample;
+    let out = args.out.display().to_string();
+    // Fail before the computation when DIR is in the way (checked again when writing).
+    if args.out.symlink_metadata().is_ok() && !args.force {
+        return Err(DirectoryError::Exists(out).into());
+    }
+    let case = load_case_file(&args.case)?;
+    let case_file = args.case.display().to_string();
+    let bytes = std::fs::read(&args.case).map_err(|e| AppError::CaseBytes(case_file.clone(), e))?;
+    let budget = std::time::Duration::from_secs_f64(args.time_budget);
+    let deadline = std::time::Instant::now() + budget;
+    let limit_settings = LimitSettings::from_case(&case);
+    let assessment = assess_within(case, budget)?;
+    let found = if args.no_limit {
+        None
+    } else {
+        Some(dosing_limit(
+            &assessment.plant,
+            &limit_settings,
+            Some(deadline),
+        ))
+    };
+    let limit = match &found {
+        None => LimitPart::Skipped,
+        Some(Ok(l)) => LimitPart::Found(l),
+        Some(Err(e)) => LimitPart::Failed(e.to_string()),
+    };
+    let series = sample(&assessment, REPORT_SERIES_POINTS)?;
+    let plots = all_plots(&assessment, &series);
+    let provenance = Provenance::new(
+        case_file,
+        &bytes,
+        format!(
+            "time budget {} s; dosing limit {}",
+            args.time_budget,
+            if args.no_limit {
+                "not computed (--no-limit)"
+            } else {
+                "computed"
+            }
+        ),
+    );
+    let doc = build(
+        &assessment,
+        &Parts {
+            limit,
+            plots: &plots,
+            provenance: &provenance,
+        },
+    );
+    let files = report_files(&doc, &series, &plots);
+    write_directory_atomically(&args.out, &files, args.force)?;
+    eprintln!(
+        "exoscreen: wrote the report to {out} ({} files)",
+        files.len()
+    );
+    Ok(Outcome::Computed)
+}
+
+/// Points of each sampled series in timeseries.csv and the plots.
+const REPORT_SERIES_POINTS: usize = 400;
 
 fn check(args: &CheckArgs) -> Result<Outcome, AppError> {
     let case = load_case_file(&args.case)?;

@@ -75,13 +75,8 @@ fn figures_from(plant: &Plant, run: &Trajectory, worst: WorstFailure) -> Figures
     let releasable_heat = plant.network.releasable_heat(&plant.recipe_amounts());
     let c_final = plant.final_heat_capacity();
     let held_heat = |x: &[f64]| plant.network.releasable_heat(layout.amounts(x));
-    let accumulation = |_: &Phase, _: f64, x: &[f64]| {
-        if releasable_heat > 0.0 {
-            held_heat(x) / releasable_heat
-        } else {
-            0.0
-        }
-    };
+    let accumulation =
+        |_: &Phase, _: f64, x: &[f64]| thermal_accumulation(plant, releasable_heat, x);
     let (max_accumulation_time, max_accumulation) = run.maximum(0.0, end, &accumulation);
     let mtsr_at = |phase: &Phase, t: f64, x: &[f64]| {
         x[Layout::TEMPERATURE] + held_heat(x) / plant.snapshot(phase, t, x).heat_capacity
@@ -153,19 +148,32 @@ fn normal_figures(plant: &Plant, run: &Trajectory) -> NormalFigures {
     }
 }
 
-/// Conversion at the end of normal operation of the first reaction's reactant that limits it
-/// in the recipe totals (smallest (n_charge + n_feed) / nu among reactants present).
+/// Thermal accumulation X = Q_acc / Q_total at state x: the heat still releasable by the
+/// amounts present over `releasable_heat`, the heat of the whole recipe (0 when it is none).
+pub(crate) fn thermal_accumulation(plant: &Plant, releasable_heat: f64, x: &[f64]) -> f64 {
+    if releasable_heat > 0.0 {
+        plant.network.releasable_heat(plant.layout().amounts(x)) / releasable_heat
+    } else {
+        0.0
+    }
+}
+
+/// The first reaction's reactant that limits it in the recipe totals (smallest
+/// (n_charge + n_feed) / nu among reactants present), as a species index.
+pub(crate) fn limiting_reactant(plant: &Plant) -> Option<usize> {
+    let first = plant.network.reactions.first()?;
+    let totals = plant.recipe_amounts();
+    (0..totals.len())
+        .filter(|i| first.nu[*i] < 0.0 && totals[*i] > 0.0 && !plant.network.gas[*i])
+        .min_by(|a, b| (totals[*a] / -first.nu[*a]).total_cmp(&(totals[*b] / -first.nu[*b])))
+}
+
+/// Conversion at the end of normal operation of the first reaction's limiting reactant.
 fn final_conversion(plant: &Plant, run: &Trajectory) -> (Option<String>, Option<f64>) {
-    let Some(first) = plant.network.reactions.first() else {
+    let Some(i) = limiting_reactant(plant) else {
         return (None, None);
     };
     let totals = plant.recipe_amounts();
-    let limiting = (0..totals.len())
-        .filter(|i| first.nu[*i] < 0.0 && totals[*i] > 0.0 && !plant.network.gas[*i])
-        .min_by(|a, b| (totals[*a] / -first.nu[*a]).total_cmp(&(totals[*b] / -first.nu[*b])));
-    let Some(i) = limiting else {
-        return (None, None);
-    };
     let layout = plant.layout();
     let (_, state) = run.state_at(plant.process_duration);
     let conversion = 1.0 - state[layout.amount(i)] / totals[i];

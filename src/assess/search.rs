@@ -6,6 +6,7 @@ use crate::model::balance::Layout;
 use crate::model::plant::Plant;
 use crate::model::scenario::{FailureOptions, ScenarioError, Trajectory, run_failure};
 use crate::numeric::golden_section_max;
+use std::borrow::Cow;
 use std::cell::RefCell;
 use std::time::Instant;
 
@@ -29,13 +30,35 @@ pub fn max_temperature_after_failure(
     t_f: f64,
     deadline: Option<Instant>,
 ) -> Result<f64, ScenarioError> {
+    let run = simulated_mtsr_run(plant, normal, t_f, deadline)?;
+    let temperature = |_: &_, _: f64, x: &[f64]| x[Layout::TEMPERATURE];
+    Ok(run.maximum(t_f, run.end_time(), &temperature).1)
+}
+
+/// The cooling-failure run at `t_f` with decomposition off, on a plant already without its
+/// boiling barrier (see `without_boiling`): the run whose maximum is the simulated MTSR.
+pub(crate) fn simulated_mtsr_run(
+    plant: &Plant,
+    normal: &Trajectory,
+    t_f: f64,
+    deadline: Option<Instant>,
+) -> Result<Trajectory, ScenarioError> {
     let options = FailureOptions {
         dosing: plant.dosing_after_failure,
         decomposition: false,
     };
-    let run = run_failure(plant, normal, t_f, options, deadline)?;
-    let temperature = |_: &_, _: f64, x: &[f64]| x[Layout::TEMPERATURE];
-    Ok(run.maximum(t_f, run.end_time(), &temperature).1)
+    run_failure(plant, normal, t_f, options, deadline)
+}
+
+/// The plant of the contract's simulated MTSR: the case's plant with no boiling barrier.
+pub(crate) fn without_boiling(plant: &Plant) -> Cow<'_, Plant> {
+    match plant.boiling {
+        Some(_) => Cow::Owned(Plant {
+            boiling: None,
+            ..plant.clone()
+        }),
+        None => Cow::Borrowed(plant),
+    }
 }
 
 /// The worst failure time and its temperature. The contract's simulated MTSR: decomposition
@@ -45,17 +68,8 @@ pub fn worst_failure(
     normal: &Trajectory,
     deadline: Option<Instant>,
 ) -> Result<WorstFailure, ScenarioError> {
-    let without_boiling;
-    let plant = match plant.boiling {
-        Some(_) => {
-            without_boiling = Plant {
-                boiling: None,
-                ..plant.clone()
-            };
-            &without_boiling
-        }
-        None => plant,
-    };
+    let plant = without_boiling(plant);
+    let plant = plant.as_ref();
     let (start, end) = match &plant.feed {
         Some(feed) => (feed.start, normal.feed_end().unwrap_or(feed.end())),
         None => (0.0, 0.0),

@@ -1,6 +1,8 @@
 //! Output files written atomically: the bytes go to a temporary file beside the target, which
 //! is flushed to disk and then renamed over the target. A reader sees the old file or the new
 //! one, never a part; on any error the temporary file is removed and the target is untouched.
+//! A directory of files (a report) is written the same way: into a temporary sibling
+//! directory, every file flushed, then renamed into place.
 
 use std::fs::{File, OpenOptions};
 use std::io::{self, Write};
@@ -67,6 +69,146 @@ fn sync_directory(directory: &Path) {
     if let Ok(dir) = File::open(directory) {
         let _ = dir.sync_all();
     }
+}
+
+/// Why a directory could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum DirectoryError {
+    #[error("{0} already exists; add --force to replace it")]
+    Exists(String),
+    #[error(
+        "{0} exists and is not a report this tool wrote (it holds {1}); it is not replaced, even with --force"
+    )]
+    NotReplaceable(String, String),
+    #[error("{0}: {1}")]
+    Io(String, io::Error),
+}
+
+/// Writes `files` (name, bytes) as the directory `target`: all of them go into a temporary
+/// sibling directory, each flushed to disk, and that directory is renamed to `target`. A
+/// reader (or a crash) sees no directory or a complete one, never part of one. An existing
+/// `target` is refused unless `force`; with `force` it is replaced only if it holds nothing
+/// but plain files and a `report.html` or `report.md` (an earlier report): it is renamed aside
+/// first, the new one renamed in, and the old one removed.
+pub fn write_directory_atomically(
+    target: &Path,
+    files: &[(String, Vec<u8>)],
+    force: bool,
+) -> Result<(), DirectoryError> {
+    let shown = target.display().to_string();
+    let io_error = |e: io::Error| DirectoryError::Io(shown.clone(), e);
+    let (parent, name) = parent_and_name(target).map_err(io_error)?;
+    let existing = std::fs::symlink_metadata(target).is_ok();
+    if existing {
+        if !force {
+            return Err(DirectoryError::Exists(shown));
+        }
+        check_replaceable(target)?;
+    }
+    let temporary = create_temporary_directory(&parent, &name).map_err(io_error)?;
+    let written = fill_directory(&temporary, files)
+        .and_then(|()| move_into_place(&temporary, target, &parent, &name, existing));
+    if let Err(e) = written {
+        let _ = std::fs::remove_dir_all(&temporary);
+        return Err(io_error(e));
+    }
+    sync_directory(&parent);
+    Ok(())
+}
+
+fn parent_and_name(path: &Path) -> io::Result<(PathBuf, String)> {
+    let name = path.file_name().ok_or_else(|| {
+        io::Error::new(
+            io::ErrorKind::InvalidInput,
+            "does not name a directory (it ends in .. or /)",
+        )
+    })?;
+    let parent = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    Ok((parent, name.to_string_lossy().into_owned()))
+}
+
+/// An existing target may be replaced only when it looks like an earlier report.
+fn check_replaceable(target: &Path) -> Result<(), DirectoryError> {
+    let shown = target.display().to_string();
+    let refuse = |what: String| DirectoryError::NotReplaceable(shown.clone(), what);
+    if !std::fs::symlink_metadata(target).is_ok_and(|m| m.is_dir()) {
+        return Err(refuse("no directory: a file or a link".to_string()));
+    }
+    let entries = std::fs::read_dir(target).map_err(|e| DirectoryError::Io(shown.clone(), e))?;
+    let mut is_report = false;
+    for entry in entries {
+        let entry = entry.map_err(|e| DirectoryError::Io(shown.clone(), e))?;
+        let name = entry.file_name().to_string_lossy().into_owned();
+        if !entry.file_type().is_ok_and(|t| t.is_file()) {
+            return Err(refuse(format!("{name}, which is not a plain file")));
+        }
+        is_report |= name == "report.html" || name == "report.md";
+    }
+    if is_report {
+        Ok(())
+    } else {
+        Err(refuse("no report.html or report.md".to_string()))
+    }
+}
+
+/// A new directory `.NAME.tmp-<pid>-<n>` in `parent`, created exclusively.
+fn create_temporary_directory(parent: &Path, name: &str) -> io::Result<PathBuf> {
+    loop {
+        let candidate = sibling(parent, name, "tmp");
+        match std::fs::create_dir(&candidate) {
+            Ok(()) => return Ok(candidate),
+            Err(e) if e.kind() == io::ErrorKind::AlreadyExists => continue,
+            Err(e) => return Err(e),
+        }
+    }
+}
+
+fn sibling(parent: &Path, name: &str, kind: &str) -> PathBuf {
+    let n = COUNTER.fetch_add(1, Ordering::Relaxed);
+    parent.join(format!(".{name}.{kind}-{}-{n}", std::process::id()))
+}
+
+fn fill_directory(directory: &Path, files: &[(String, Vec<u8>)]) -> io::Result<()> {
+    for (name, bytes) in files {
+        if name.is_empty() || name.contains(['/', '\\']) || name.starts_with('.') {
+            return Err(io::Error::new(
+                io::ErrorKind::InvalidInput,
+                format!("{name:?} is not a plain file name"),
+            ));
+        }
+        let file = OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(directory.join(name))?;
+        fill_and_sync(file, |f| f.write_all(bytes))?;
+    }
+    sync_directory(directory);
+    Ok(())
+}
+
+/// Renames the finished directory to `target`; an existing target is moved aside first,
+/// put back if the rename fails, and removed once the new one is in place.
+fn move_into_place(
+    temporary: &Path,
+    target: &Path,
+    parent: &Path,
+    name: &str,
+    existing: bool,
+) -> io::Result<()> {
+    if !existing {
+        return std::fs::rename(temporary, target);
+    }
+    let aside = sibling(parent, name, "old");
+    std::fs::rename(target, &aside)?;
+    if let Err(e) = std::fs::rename(temporary, target) {
+        let _ = std::fs::rename(&aside, target);
+        return Err(e);
+    }
+    let _ = std::fs::remove_dir_all(&aside);
+    Ok(())
 }
 
 #[cfg(test)]
@@ -159,5 +301,90 @@ mod tests {
     #[test]
     fn a_path_without_a_file_name_is_refused() {
         assert!(write_atomically(Path::new("/"), b"x").is_err());
+    }
+
+    fn report_files() -> Vec<(String, Vec<u8>)> {
+        vec![
+            ("report.html".to_string(), b"<html></html>".to_vec()),
+            ("report.md".to_string(), b"# report".to_vec()),
+        ]
+    }
+
+    fn names_in(dir: &Path) -> Vec<String> {
+        let mut names: Vec<String> = std::fs::read_dir(dir)
+            .expect("the directory")
+            .filter_map(|e| e.ok())
+            .map(|e| e.file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        names
+    }
+
+    #[test]
+    fn a_directory_appears_whole() {
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let target = dir.path().join("out");
+        write_directory_atomically(&target, &report_files(), false).expect("written");
+        assert_eq!(names_in(&target), ["report.html", "report.md"]);
+        assert_eq!(names_in(dir.path()), ["out"]);
+    }
+
+    #[test]
+    fn an_existing_directory_is_refused_without_force_and_replaced_with_it() {
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let target = dir.path().join("out");
+        std::fs::create_dir(&target).expect("an old report");
+        std::fs::write(target.join("report.md"), "old").expect("its file");
+        std::fs::write(target.join("stale.svg"), "old").expect("its plot");
+        let refused = write_directory_atomically(&target, &report_files(), false);
+        assert!(matches!(refused, Err(DirectoryError::Exists(_))));
+        assert_eq!(
+            std::fs::read_to_string(target.join("report.md")).unwrap(),
+            "old"
+        );
+        write_directory_atomically(&target, &report_files(), true).expect("replaced");
+        assert_eq!(names_in(&target), ["report.html", "report.md"]);
+        assert_eq!(names_in(dir.path()), ["out"]);
+    }
+
+    #[test]
+    fn force_never_replaces_a_directory_that_is_not_a_report() {
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let target = dir.path().join("home");
+        std::fs::create_dir_all(target.join("documents")).expect("someone's files");
+        std::fs::write(target.join("notes.txt"), "keep").expect("a file");
+        let refused = write_directory_atomically(&target, &report_files(), true);
+        assert!(matches!(refused, Err(DirectoryError::NotReplaceable(..))));
+        assert_eq!(
+            std::fs::read_to_string(target.join("notes.txt")).unwrap(),
+            "keep"
+        );
+        let file = dir.path().join("plain-file");
+        std::fs::write(&file, "keep").expect("a file");
+        let refused = write_directory_atomically(&file, &report_files(), true);
+        assert!(matches!(refused, Err(DirectoryError::NotReplaceable(..))));
+        assert_eq!(std::fs::read_to_string(&file).unwrap(), "keep");
+    }
+
+    #[test]
+    fn a_bad_file_name_leaves_nothing() {
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let target = dir.path().join("out");
+        let files = vec![
+            ("report.md".to_string(), b"x".to_vec()),
+            ("../escape".to_string(), b"x".to_vec()),
+        ];
+        assert!(write_directory_atomically(&target, &files, false).is_err());
+        assert!(names_in(dir.path()).is_empty());
+    }
+
+    #[test]
+    fn a_parent_that_is_a_file_fails_and_leaves_nothing() {
+        let dir = tempfile::tempdir().expect("a temporary directory");
+        let blocker = dir.path().join("blocker");
+        std::fs::write(&blocker, "x").expect("a file");
+        let result = write_directory_atomically(&blocker.join("out"), &report_files(), false);
+        assert!(matches!(result, Err(DirectoryError::Io(..))));
+        assert_eq!(names_in(dir.path()), ["blocker"]);
     }
 }

@@ -16,7 +16,7 @@ use std::time::{Duration, Instant};
 const HOUR: f64 = 3600.0;
 
 /// Where the cooling-use default comes from, said wherever it is printed.
-const COOLING_USE_BASIS: &str =
+pub(crate) const COOLING_USE_BASIS: &str =
     "share of U A (Tp - T_cold) the peak may use; 0.8 by default, a common-practice margin";
 
 // ---------------------------------------------------------------------------------------------
@@ -138,7 +138,7 @@ fn result_table(limit: &DosingLimit) -> Table {
     t
 }
 
-fn names(criteria: &[Criterion]) -> String {
+pub(crate) fn names(criteria: &[Criterion]) -> String {
     criteria
         .iter()
         .map(|c| c.name())
@@ -146,7 +146,7 @@ fn names(criteria: &[Criterion]) -> String {
         .join(", ")
 }
 
-fn required_coolant_text(limit: &DosingLimit) -> String {
+pub(crate) fn required_coolant_text(limit: &DosingLimit) -> String {
     let what = if limit.held_jacket {
         "the jacket's minimum"
     } else {
@@ -170,7 +170,7 @@ fn required_coolant_text(limit: &DosingLimit) -> String {
 }
 
 /// A criterion's numbers in report units: (value, limit, margin, unit).
-fn in_report_units(c: &Check) -> (f64, f64, f64, &'static str, &'static str) {
+pub(crate) fn in_report_units(c: &Check) -> (f64, f64, f64, &'static str, &'static str) {
     match c.criterion {
         Criterion::Cooling => (c.value / 1e3, c.limit / 1e3, c.margin() / 1e3, "kW", "kW"),
         Criterion::Temperature => (celsius(c.value), celsius(c.limit), c.margin(), "degC", "K"),
@@ -184,7 +184,7 @@ fn in_report_units(c: &Check) -> (f64, f64, f64, &'static str, &'static str) {
     }
 }
 
-fn basis(e: &Evaluation, c: &Check, cooling_use: f64) -> String {
+pub(crate) fn basis(e: &Evaluation, c: &Check, cooling_use: f64) -> String {
     let f = &e.figures;
     match c.criterion {
         Criterion::Cooling => format!(

@@ -5,13 +5,17 @@ pub mod atomic;
 pub mod calorimetry;
 pub mod cautions;
 pub mod csv;
+pub mod document;
 pub mod dsc;
 pub mod enthalpy;
 pub mod json;
 pub mod limit;
+pub mod plot;
 pub mod scale;
 pub mod scale_section;
+pub mod series;
 pub mod table;
+pub mod timeseries_csv;
 
 use crate::assess::Assessment;
 

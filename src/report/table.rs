@@ -41,8 +41,18 @@ impl Exporter for TableExporter {
 }
 
 fn case_table(a: &Assessment) -> Table {
-    let p = &a.plant;
     let mut t = new_table(&["item", "value"]);
+    for [item, value] in case_rows(a) {
+        t.add_row(vec![item, value]);
+    }
+    t
+}
+
+/// The case in brief, one (item, value with units) pair a row; the stage-gate document
+/// shows the same rows.
+pub(crate) fn case_rows(a: &Assessment) -> Vec<[String; 2]> {
+    let p = &a.plant;
+    let mut t = Rows::default();
     let g = &p.geometry;
     let v0 = p.charge.mass / p.charge.density;
     let v1 = v0
@@ -192,7 +202,21 @@ fn case_table(a: &Assessment) -> Table {
         None => "no data".to_string(),
     };
     t.add_row(vec!["decomposition".to_string(), decomposition]);
-    t
+    t.0
+}
+
+/// Rows collected with the same calls as a table's.
+#[derive(Default)]
+struct Rows(Vec<[String; 2]>);
+
+impl Rows {
+    fn add_row(&mut self, row: Vec<String>) -> &mut Self {
+        let mut cells = row.into_iter();
+        let item = cells.next().unwrap_or_default();
+        let value = cells.next().unwrap_or_default();
+        self.0.push([item, value]);
+        self
+    }
 }
 
 fn amounts(p: &crate::model::plant::Plant, n: &[f64]) -> String {
