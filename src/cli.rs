@@ -564,7 +564,7 @@ fn limit(args: &LimitArgs) -> Result<Outcome, AppError> {
 fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
     use crate::assess::limit::{LimitSettings, dosing_limit};
     use crate::report::document::provenance::Provenance;
-    use crate::report::document::{LimitPart, Parts, build, files::report_files};
+    use crate::report::document::{LimitPart, Parts, ScalePart, build, files::report_files};
     use crate::report::plot::all_plots;
     use crate::report::series::sample;
     let out = args.out.display().to_string();
@@ -593,6 +593,16 @@ fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
         Some(Ok(l)) => LimitPart::Found(l),
         Some(Err(e)) => LimitPart::Failed(e.to_string()),
     };
+    let ladder = crate::report::scale_section::scale_section(
+        &assessment.case,
+        &assessment.plant,
+        Some(deadline),
+    );
+    let scale = match &ladder {
+        Ok(Some(s)) => ScalePart::Found(s),
+        Ok(None) => ScalePart::Absent,
+        Err(e) => ScalePart::Failed(e.to_string()),
+    };
     let series = sample(&assessment, REPORT_SERIES_POINTS)?;
     let plots = all_plots(&assessment, &series);
     let provenance = Provenance::new(
@@ -612,6 +622,7 @@ fn report(args: &ReportArgs) -> Result<Outcome, AppError> {
         &assessment,
         &Parts {
             limit,
+            scale,
             plots: &plots,
             provenance: &provenance,
         },

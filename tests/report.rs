@@ -473,3 +473,54 @@ fn the_dosing_limit_section_equals_limit_json() {
         "the verdict's advice carries the limit"
     );
 }
+
+/// A case with `scale_up` gets the scale-up section in both documents, with the rows that
+/// `exoscreen scale --format json` computes; a case without it (the demo) has none.
+#[test]
+fn a_case_that_asks_for_scales_gets_the_scale_section_with_the_ladder_of_scale_json() {
+    const FILM: &str = "cases/bromination-film.yaml";
+    let dir = tempfile::tempdir().expect("a temporary directory");
+    let out = dir.path().join("film-report");
+    let output = exoscreen()
+        .args(["report", FILM, "--no-limit", "--out"])
+        .arg(&out)
+        .output()
+        .expect("exoscreen runs");
+    assert_eq!(output.status.code(), Some(0));
+    let markdown = read(&out.join("report.md"));
+    let html = read(&out.join("report.html"));
+    assert!(markdown.contains("## Scale-up"), "no scale section");
+    assert!(
+        html.contains("id=\"scale-up\""),
+        "no scale section in the HTML"
+    );
+    let ladder = common::run(&["scale", FILM, "--format", "json"]);
+    assert_eq!(ladder.code, Some(0), "{}", ladder.stderr);
+    let json: serde_json::Value = serde_json::from_str(&ladder.stdout).expect("JSON");
+    let scales = json["scales"].as_array().expect("scales");
+    let rows: Vec<Vec<String>> = markdown
+        .lines()
+        .skip_while(|l| !l.starts_with("## Scale-up"))
+        .filter(|l| l.starts_with("| ") && !l.starts_with("| V ") && !l.starts_with("| ---"))
+        .map(|l| {
+            l.trim_matches('|')
+                .split('|')
+                .map(|c| c.trim().to_string())
+                .collect()
+        })
+        .take(scales.len())
+        .collect();
+    assert_eq!(rows.len(), scales.len(), "one row per scale");
+    for (row, scale) in rows.iter().zip(scales) {
+        let volume: f64 = row[0].parse().expect("a volume");
+        let mtsr: f64 = row[9].parse().expect("an MTSR");
+        let expected_volume = scale["volume_m3"].as_f64().expect("volume");
+        assert!((volume - expected_volume).abs() <= 5e-4 * expected_volume.max(1.0));
+        let expected_mtsr = scale["mtsr_C"].as_f64().expect("MTSR");
+        assert!(
+            (mtsr - expected_mtsr).abs() <= 0.05,
+            "{mtsr} vs {expected_mtsr}"
+        );
+    }
+    assert!(!read(&demo_report().join("report.md")).contains("## Scale-up"));
+}

@@ -9,11 +9,13 @@ pub mod limit;
 pub mod markdown;
 pub mod notes;
 pub mod provenance;
+pub mod scale;
 pub mod verdict;
 
 use crate::assess::Assessment;
 use crate::assess::limit::DosingLimit;
 use crate::report::plot::Plot;
+use crate::report::scale_section::ScaleSection;
 use provenance::Provenance;
 
 /// The whole report: a title and its sections in reading order.
@@ -86,11 +88,17 @@ pub enum LimitPart<'a> {
     Failed(String),
 }
 
+/// The scale-up part: the case's `scale_up` ladder, none asked for, or why it failed.
+pub enum ScalePart<'a> {
+    Found(&'a ScaleSection),
+    Absent,
+    Failed(String),
+}
+
 /// What the report is built from beyond the assessment.
 pub struct Parts<'a> {
     pub limit: LimitPart<'a>,
-    // Hook for the scale-up section (not built yet): add its result here as
-    // `pub scale: ScalePart<'a>` and push its section in `build` where marked.
+    pub scale: ScalePart<'a>,
     pub plots: &'a [Plot],
     pub provenance: &'a Provenance,
 }
@@ -112,7 +120,7 @@ pub fn build(a: &Assessment, parts: &Parts) -> Document {
     }
     sections.push(plots_section(parts.plots));
     sections.push(limit::section(&parts.limit));
-    // Hook: the scale-up section goes here, after the dosing limit.
+    sections.extend(scale::section(&parts.scale));
     sections.push(notes::warnings_section(a));
     sections.push(notes::assumptions_section());
     sections.push(notes::cautions_section());
