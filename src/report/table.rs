@@ -129,10 +129,11 @@ pub(crate) fn case_rows(a: &Assessment) -> Vec<[String; 2]> {
         t.add_row(vec![
             "reaction".to_string(),
             format!(
-                "{}: dH {:.1} kJ/mol, k {:.4e} SI at {:.1} degC, Ea {:.1} kJ/mol",
+                "{}: dH {:.1} kJ/mol, k {:.4e} {} at {:.1} degC, Ea {:.1} kJ/mol",
                 r.equation.text,
                 -law.heat_of_reaction / 1e3,
                 law.k_ref,
+                rate_constant_unit(law.orders.iter().map(|(_, n)| n).sum()),
                 celsius(law.reference_temperature),
                 law.activation_energy / 1e3
             ),
@@ -463,5 +464,17 @@ fn verdict(a: &Assessment) -> String {
     match a.figures.class {
         Some(c) => format!("CRITICALITY CLASS {c}\n  {}\n", class_meaning(c)),
         None => "CRITICALITY CLASS: none — there are no decomposition data, so TD24 and the class cannot be given. Obtain DSC/ARC data of the reaction mass before relying on this screening.\n".to_string(),
+    }
+}
+
+/// The SI unit of a rate constant of overall order n: (m^3/mol)^(n-1)/s.
+fn rate_constant_unit(order: f64) -> String {
+    let exponent = order - 1.0;
+    if exponent.abs() < 1e-12 {
+        "1/s".to_string()
+    } else if (exponent - 1.0).abs() < 1e-12 {
+        "m^3/(mol*s)".to_string()
+    } else {
+        format!("(m^3/mol)^{exponent}/s")
     }
 }
