@@ -415,15 +415,7 @@ fn after_failure(a: &Assessment) -> String {
                 "kg/h",
                 format!("{:.2} mol/s", b.peak_vapour_rate_mol_s),
             );
-            let condenser = match (b.condenser_capacity, b.condenser_exceeded_after) {
-                (Some(c), Some(when)) => format!(
-                    "exceeds the condenser ({:.0} kW) {:.2} h after the failure",
-                    c / 1e3,
-                    when / HOUR
-                ),
-                (Some(c), None) => format!("within the condenser ({:.0} kW)", c / 1e3),
-                (None, _) => "no condenser given".to_string(),
-            };
+            let condenser = condenser_text(b);
             row(
                 &mut t,
                 "peak heat to condense",
@@ -476,5 +468,18 @@ fn rate_constant_unit(order: f64) -> String {
         "m^3/(mol*s)".to_string()
     } else {
         format!("(m^3/mol)^{exponent}/s")
+    }
+}
+
+/// Whether the vapour of a boiling runaway stays within the condenser, for both reports.
+pub(crate) fn condenser_text(b: &crate::assess::runaway::Boiling) -> String {
+    match (b.condenser_capacity, b.condenser_exceeded_after) {
+        (Some(c), Some(when)) => format!(
+            "exceeds the condenser ({:.0} kW) {:.2} h after the failure",
+            c / 1e3,
+            when / HOUR
+        ),
+        (Some(c), None) => format!("within the condenser ({:.0} kW)", c / 1e3),
+        (None, _) => "no condenser given".to_string(),
     }
 }

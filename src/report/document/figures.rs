@@ -6,6 +6,7 @@ use super::{Block, Section, Table, fixed};
 use crate::assess::Assessment;
 use crate::model::plant::Jacket;
 use crate::report::celsius;
+use crate::report::table::condenser_text;
 
 const HOUR: f64 = 3600.0;
 /// J/(mol K), as model.md fixes it.
@@ -315,15 +316,7 @@ pub fn after_failure_section(a: &Assessment) -> Option<Section> {
                 "kg/h".to_string(),
                 format!("{:.2} mol/s", b.peak_vapour_rate_mol_s),
             ]);
-            let condenser = match (b.condenser_capacity, b.condenser_exceeded_after) {
-                (Some(c), Some(when)) => format!(
-                    "exceeds the condenser ({:.0} kW) {:.2} h after the failure",
-                    c / 1e3,
-                    when / HOUR
-                ),
-                (Some(c), None) => format!("within the condenser ({:.0} kW)", c / 1e3),
-                (None, _) => "no condenser given".to_string(),
-            };
+            let condenser = condenser_text(b);
             rows.push(vec![
                 "peak heat to condense".to_string(),
                 format!("{:.0}", b.peak_heat / 1e3),
